@@ -1,0 +1,4 @@
+import type { Command } from 'commander';
+
+/** Every CLI command registers itself here; one file per command in this folder. */
+export const commands: Array<(program: Command) => void> = [];

@@ -1,0 +1,47 @@
+import { InputError } from '../core/errors.js';
+import { toSnakeCase } from '../core/json/toSnakeCase.js';
+
+/** Prints a core result as the one JSON object of the machine-output contract (snake_case keys, units in names). */
+export function printJson(result: unknown): void {
+  process.stdout.write(JSON.stringify(toSnakeCase(result), null, 2) + '\n');
+}
+
+/** Prints to stderr (warnings, progress), never to stdout, which belongs to the result. */
+export function note(message: string): void {
+  process.stderr.write(message + '\n');
+}
+
+/**
+ * Wraps a command's action: bad input (InputError, or a file that cannot be read) prints one line on stderr and sets
+ * exit code 1; anything else is a bug in glowprint and says so.
+ */
+export function action<A extends unknown[]>(fn: (...args: A) => Promise<void> | void): (...args: A) => Promise<void> {
+  return async (...args: A) => {
+    try {
+      await fn(...args);
+    } catch (err) {
+      if (err instanceof InputError) {
+        note(`glowprint: ${err.message}`);
+        process.exitCode = 1;
+        return;
+      }
+      const e = err as NodeJS.ErrnoException;
+      if (e && typeof e.code === 'string' && ['ENOENT', 'EISDIR', 'EACCES', 'ENOTDIR', 'EPERM'].includes(e.code)) {
+        const what = e.code === 'ENOENT' ? 'no such file' : e.code === 'EISDIR' ? 'is a folder, not a file' : 'cannot be read or written';
+        note(`glowprint: ${e.path ?? 'file'}: ${what}`);
+        process.exitCode = 1;
+        return;
+      }
+      note(`glowprint: internal error (please report it with the input that caused it): ${e?.stack ?? String(err)}`);
+      process.exitCode = 1;
+    }
+  };
+}
+
+/** Parses a finite number option, naming the option in the error. */
+export function numberOption(name: string, value: string | undefined): number | undefined {
+  if (value === undefined) return undefined;
+  const v = Number(value);
+  if (value.trim() === '' || !Number.isFinite(v)) throw new InputError(`${name}: expected a number, got ${JSON.stringify(value)}`, name);
+  return v;
+}

@@ -1,0 +1,5 @@
+export { linearLeastSquares, polyval } from './linearLeastSquares.js';
+export type { LinearFit, LinearFitOptions } from './linearLeastSquares.js';
+export { levenbergMarquardt } from './levenbergMarquardt.js';
+export type { LevenbergMarquardtOptions, NonlinearFit } from './levenbergMarquardt.js';
+export { invertSymmetric, solve } from './matrix.js';
