@@ -1,4 +1,7 @@
 import type { Command } from 'commander';
+import { registerServe } from './serve.js';
 
 /** Every CLI command registers itself here; one file per command in this folder. */
-export const commands: Array<(program: Command) => void> = [];
+export const commands: Array<(program: Command) => void> = [
+  registerServe,
+];
