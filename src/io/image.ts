@@ -1,0 +1,337 @@
+import { promises as fs } from 'node:fs';
+import path from 'node:path';
+import sharp from 'sharp';
+import { InputError, invalid } from '../core/errors.js';
+import type { LinearImage } from '../core/types.js';
+import { linearCodeTable, SRGB_DECODE_LUT_8, srgbDecodeTable } from '../core/units/srgb.js';
+import { type ExifSummary, readExifSummary } from './exif.js';
+import { sniffKind } from './sniff.js';
+
+export type { ExifSummary } from './exif.js';
+
+/**
+ * Photo decoding: file or buffer → linear-light image in the upright orientation, with its EXIF summary.
+ *
+ * Memory: a 12-MP RGB photo is 36 MB as 8-bit codes but 144 MB as Float32. The returned image therefore keeps the
+ * decoded integer codes (`codes`) and the code → linear table (`codeToLinear`), and builds `data` (Float32) and
+ * `saturated` lazily on first access. Stages that sample only part of the photo (band finding, extraction) should
+ * read `codeToLinear[codes[i]]` and test `codes[i] === codeToLinear.length - 1` for clipping; then the photo costs
+ * its 8-bit size plus the file. With a dark frame the subtraction needs real numbers, so `data` is built at once and
+ * `codes` is left out.
+ */
+export interface DecodeImageOptions {
+  /** Name of the input in messages. @default the file path, or "image" for a buffer */
+  source?: string;
+  /**
+   * Largest pixel count accepted, checked from the file header before any pixel is decoded (a small file claiming
+   * 60000 × 60000 is a decompression bomb). @default 100e6 (100 megapixels: every phone and DSLR photo fits)
+   */
+  maxPixels?: number;
+  /** Dark frame (same size, same exposure, lens capped) subtracted in linear light. */
+  dark?: string | Buffer;
+  /** Take 16-bit images as linear sensor values (true) or as sRGB-encoded (false). @default true */
+  linear16?: boolean;
+  /** Take 8-bit images as sRGB-encoded (true, what cameras and phones write) or as linear (false). @default true */
+  srgb8?: boolean;
+  /** Smallest width and height accepted, in pixels. @default 16 */
+  minSidePx?: number;
+}
+
+export const DECODE_IMAGE_DEFAULTS = {
+  maxPixels: 100e6,
+  linear16: true,
+  srgb8: true,
+  minSidePx: 16,
+} as const;
+
+/** The formats glowprint decodes (sharp's `format` names) and how messages call them. */
+export const SUPPORTED_IMAGE_FORMATS: Readonly<Record<string, string>> = {
+  jpeg: 'JPEG',
+  png: 'PNG',
+  tiff: 'TIFF',
+  webp: 'WebP',
+};
+const SUPPORTED_LIST = 'JPEG, PNG, TIFF or WebP';
+
+export interface DecodedImage {
+  image: LinearImage;
+  exif: ExifSummary;
+  bitDepth: 8 | 16;
+  /** sharp's format name: jpeg, png, tiff, webp. */
+  format: string;
+  /** Size of the upright image (after EXIF orientation). */
+  widthPx: number;
+  heightPx: number;
+  /** EXIF orientation tag as found (1 = upright), before it was applied. */
+  orientation: number;
+  /** Things the user should know (unreadable EXIF, dark frame taken with other settings). */
+  warnings: string[];
+}
+
+/** Decodes a photo (JPEG, PNG 8/16-bit, TIFF 8/16-bit, WebP) into linear light with EXIF orientation applied. */
+export async function decodeImage(input: string | Buffer, options: DecodeImageOptions = {}): Promise<DecodedImage> {
+  const maxPixels = options.maxPixels ?? DECODE_IMAGE_DEFAULTS.maxPixels;
+  if (typeof maxPixels !== 'number' || !(maxPixels >= 1)) throw invalid('maxPixels', 'a pixel count ≥ 1', maxPixels);
+  const minSidePx = options.minSidePx ?? DECODE_IMAGE_DEFAULTS.minSidePx;
+  const light = await decodeOne(input, {
+    source: options.source ?? sourceName(input, 'image'),
+    maxPixels,
+    minSidePx,
+    linear16: options.linear16 ?? DECODE_IMAGE_DEFAULTS.linear16,
+    srgb8: options.srgb8 ?? DECODE_IMAGE_DEFAULTS.srgb8,
+  });
+  if (options.dark === undefined) return light;
+
+  const darkSource = sourceName(options.dark, 'dark frame');
+  const dark = await decodeOne(options.dark, {
+    source: darkSource,
+    maxPixels,
+    minSidePx,
+    linear16: options.linear16 ?? DECODE_IMAGE_DEFAULTS.linear16,
+    srgb8: options.srgb8 ?? DECODE_IMAGE_DEFAULTS.srgb8,
+  });
+  const a = light.image;
+  const d = dark.image;
+  if (a.width !== d.width || a.height !== d.height) {
+    throw new InputError(
+      `${darkSource}: dark frame is ${d.width}×${d.height} px but the photo is ${a.width}×${a.height} px; ` +
+        'a dark frame must be taken with the same camera settings and size',
+      darkSource,
+    );
+  }
+  if (a.channels !== d.channels) {
+    throw new InputError(
+      `${darkSource}: dark frame has ${d.channels === 1 ? 'one channel (grey)' : 'three channels (colour)'} but the photo has ` +
+        `${a.channels === 1 ? 'one (grey)' : 'three (colour)'}`,
+      darkSource,
+    );
+  }
+  return { ...light, image: subtractDark(a, d), warnings: [...light.warnings, ...dark.warnings, ...compareSettings(light.exif, dark.exif)] };
+}
+
+interface DecodeOneOptions {
+  source: string;
+  maxPixels: number;
+  minSidePx: number;
+  linear16: boolean;
+  srgb8: boolean;
+}
+
+async function decodeOne(input: string | Buffer, o: DecodeOneOptions): Promise<DecodedImage> {
+  const bytes = typeof input === 'string' ? await readImageFile(input, o.source) : input;
+  if (bytes.length === 0) throw new InputError(`${o.source}: the file is empty (0 bytes), not an image`, o.source);
+
+  let meta: sharp.Metadata;
+  try {
+    // The header only; sharp's own pixel limit is lifted here so that the check below gives the clear message.
+    meta = await sharp(bytes, { limitInputPixels: false }).metadata();
+  } catch (err) {
+    throw notAnImage(o.source, bytes, err);
+  }
+  const format = meta.format ?? 'unknown';
+  if (!(format in SUPPORTED_IMAGE_FORMATS)) {
+    throw new InputError(`${o.source}: ${describeFormat(format)} images are not supported; expected ${SUPPORTED_LIST}`, o.source);
+  }
+  const width = meta.width ?? 0;
+  const height = meta.height ?? 0;
+  // Checked from the header before a single pixel is decoded.
+  if (width * height > o.maxPixels) {
+    throw new InputError(
+      `${o.source}: the header claims ${width}×${height} px (${megapixels(width * height)} MP), over the limit of ` +
+        `${megapixels(o.maxPixels)} MP; refusing to decode it (raise --max-pixels if the photo is genuine)`,
+      o.source,
+    );
+  }
+  if (width < o.minSidePx || height < o.minSidePx) {
+    throw new InputError(
+      `${o.source}: ${width}×${height} px is too small for a spectrum (at least ${o.minSidePx}×${o.minSidePx} px needed)`,
+      o.source,
+    );
+  }
+  const bitDepth = meta.depth === 'uchar' ? 8 : meta.depth === 'ushort' ? 16 : undefined;
+  if (bitDepth === undefined) {
+    throw new InputError(`${o.source}: ${meta.depth} samples are not supported; expected 8- or 16-bit integer samples`, o.source);
+  }
+  const grey = (meta.channels ?? 3) <= 2 && meta.space !== 'cmyk';
+
+  let raw: { data: Buffer; info: sharp.OutputInfo };
+  try {
+    raw = await sharp(bytes, { limitInputPixels: Math.floor(o.maxPixels), failOn: 'warning' })
+      .rotate() // applies the EXIF orientation; a no-op on upright photos
+      .removeAlpha()
+      .toColourspace(grey ? (bitDepth === 16 ? 'grey16' : 'b-w') : bitDepth === 16 ? 'rgb16' : 'srgb')
+      .raw({ depth: bitDepth === 16 ? 'ushort' : 'uchar' })
+      .toBuffer({ resolveWithObject: true });
+  } catch (err) {
+    throw new InputError(
+      `${o.source}: the ${SUPPORTED_IMAGE_FORMATS[format]} data is damaged or cut short and cannot be decoded (${decoderMessage(err)})`,
+      o.source,
+    );
+  }
+  const { info, data } = raw;
+  const channels = info.channels === 1 ? 1 : 3;
+  if (info.channels !== channels) {
+    throw new InputError(`${o.source}: decoded to ${info.channels} channels; expected grey or RGB`, o.source);
+  }
+  const codes = bitDepth === 16 ? uint16View(data) : new Uint8Array(data.buffer, data.byteOffset, data.byteLength);
+  const table = codeTable(bitDepth, bitDepth === 16 ? !o.linear16 : o.srgb8);
+
+  const warnings: string[] = [];
+  let exif: ExifSummary = {};
+  try {
+    exif = await readExifSummary(format === 'tiff' && !meta.exif ? bytes : meta.exif);
+  } catch (err) {
+    warnings.push(`${o.source}: EXIF data could not be read (${(err as Error).message}); exposure and camera are unknown`);
+  }
+  return {
+    image: linearImageFromCodes({ width: info.width, height: info.height, channels, codes, codeToLinear: table }),
+    exif,
+    bitDepth,
+    format,
+    widthPx: info.width,
+    heightPx: info.height,
+    orientation: meta.orientation ?? 1,
+    warnings,
+  };
+}
+
+export interface CodedImageParts {
+  width: number;
+  height: number;
+  channels: 1 | 3;
+  /** Integer code values, row-major, interleaved. */
+  codes: Uint8Array | Uint16Array;
+  /** code → linear light (relative to the maximum); its last entry is the clipping level. */
+  codeToLinear: Float32Array;
+}
+
+/**
+ * A LinearImage over integer codes: `data` (Float32, `codeToLinear[codes[i]]`) and `saturated` (1 where any channel
+ * is at the maximum code) are computed on first access and then kept. Both are own enumerable properties, so a
+ * spread copy of the image still carries them.
+ */
+export function linearImageFromCodes(parts: CodedImageParts): LinearImage {
+  const { width, height, channels, codes, codeToLinear } = parts;
+  if (codes.length !== width * height * channels) {
+    throw invalid('codes', `${width * height * channels} values (${width}×${height}×${channels})`, codes);
+  }
+  const image = { width, height, channels, codes, codeToLinear } as LinearImage;
+  let data: Float32Array | undefined;
+  let saturated: Uint8Array | undefined;
+  Object.defineProperty(image, 'data', {
+    enumerable: true,
+    configurable: true,
+    get: () => (data ??= lineariseCodes(codes, codeToLinear)),
+  });
+  Object.defineProperty(image, 'saturated', {
+    enumerable: true,
+    configurable: true,
+    get: () => (saturated ??= saturationFlags(codes, channels, codeToLinear.length - 1)),
+  });
+  return image;
+}
+
+function lineariseCodes(codes: Uint8Array | Uint16Array, table: Float32Array): Float32Array {
+  const n = codes.length;
+  const out = new Float32Array(n);
+  for (let i = 0; i < n; i++) out[i] = table[codes[i]];
+  return out;
+}
+
+function saturationFlags(codes: Uint8Array | Uint16Array, channels: 1 | 3, maxCode: number): Uint8Array {
+  const n = codes.length / channels;
+  const flags = new Uint8Array(n);
+  if (channels === 1) {
+    for (let p = 0; p < n; p++) if (codes[p] === maxCode) flags[p] = 1;
+  } else {
+    for (let p = 0, i = 0; p < n; p++, i += 3) {
+      if (codes[i] === maxCode || codes[i + 1] === maxCode || codes[i + 2] === maxCode) flags[p] = 1;
+    }
+  }
+  return flags;
+}
+
+/** light − dark in linear light; saturation comes from the photo alone (a clipped pixel stays clipped). */
+function subtractDark(light: LinearImage, dark: LinearImage): LinearImage {
+  const a = light.data;
+  const b = dark.data;
+  const out = new Float32Array(a.length);
+  for (let i = 0; i < a.length; i++) out[i] = a[i] - b[i];
+  return { width: light.width, height: light.height, channels: light.channels, data: out, saturated: light.saturated };
+}
+
+function compareSettings(light: ExifSummary, dark: ExifSummary): string[] {
+  const out: string[] = [];
+  if (light.exposureTimeS !== undefined && dark.exposureTimeS !== undefined) {
+    const ratio = light.exposureTimeS / dark.exposureTimeS;
+    if (Math.abs(ratio - 1) > 0.02) {
+      out.push(`dark frame exposure ${dark.exposureTimeS} s differs from the photo's ${light.exposureTimeS} s; the dark signal will not cancel`);
+    }
+  }
+  if (light.iso !== undefined && dark.iso !== undefined && light.iso !== dark.iso) {
+    out.push(`dark frame ISO ${dark.iso} differs from the photo's ISO ${light.iso}`);
+  }
+  return out;
+}
+
+/** Built on first use: the 16-bit tables are 256 KiB each. */
+const tables: { linear8?: Float32Array; linear16?: Float32Array; srgb16?: Float32Array } = {};
+function codeTable(bitDepth: 8 | 16, srgb: boolean): Float32Array {
+  if (bitDepth === 8) return srgb ? SRGB_DECODE_LUT_8 : (tables.linear8 ??= linearCodeTable(255));
+  return srgb ? (tables.srgb16 ??= srgbDecodeTable(65535)) : (tables.linear16 ??= linearCodeTable(65535));
+}
+
+function uint16View(data: Buffer): Uint16Array {
+  if (data.byteOffset % 2 === 0) return new Uint16Array(data.buffer, data.byteOffset, data.byteLength / 2);
+  const copy = new Uint16Array(data.byteLength / 2);
+  new Uint8Array(copy.buffer).set(data);
+  return copy;
+}
+
+async function readImageFile(file: string, source: string): Promise<Buffer> {
+  try {
+    return await fs.readFile(file);
+  } catch (err) {
+    const code = (err as NodeJS.ErrnoException).code;
+    if (code === 'ENOENT') throw new InputError(`${source}: no such file`, source);
+    if (code === 'EISDIR') throw new InputError(`${source}: is a folder, not an image file`, source);
+    throw new InputError(`${source}: cannot be read (${code ?? (err as Error).message})`, source);
+  }
+}
+
+function notAnImage(source: string, bytes: Buffer, err: unknown): InputError {
+  const message = decoderMessage(err);
+  const named = extensionFormat(source);
+  if (/unsupported image format/i.test(message)) {
+    const what = sniffKind(bytes) === 'text' ? 'contains text, not image data' : 'is not an image glowprint can read';
+    const despite = named ? ` (despite its .${path.extname(source).slice(1)} name)` : '';
+    return new InputError(`${source}: ${what}${despite}; expected ${SUPPORTED_LIST}`, source);
+  }
+  return new InputError(`${source}: the image header is damaged and cannot be read (${message})`, source);
+}
+
+function extensionFormat(file: string): string | undefined {
+  const ext = path.extname(file).toLowerCase();
+  return { '.jpg': 'JPEG', '.jpeg': 'JPEG', '.png': 'PNG', '.tif': 'TIFF', '.tiff': 'TIFF', '.webp': 'WebP' }[ext];
+}
+
+function describeFormat(format: string): string {
+  const names: Record<string, string> = { gif: 'GIF', svg: 'SVG', heif: 'HEIF/AVIF', jp2k: 'JPEG 2000', pdf: 'PDF', jxl: 'JPEG XL' };
+  return names[format] ?? format.toUpperCase();
+}
+
+function decoderMessage(err: unknown): string {
+  return String((err as Error)?.message ?? err)
+    .split('\n')[0]
+    .replace(/^Input (buffer|file) (has corrupt header: )?/i, '')
+    .trim();
+}
+
+function megapixels(n: number): string {
+  const mp = n / 1e6;
+  return mp >= 10 ? mp.toFixed(0) : mp.toPrecision(2);
+}
+
+function sourceName(input: string | Buffer, fallback: string): string {
+  return typeof input === 'string' ? input : fallback;
+}
