@@ -1,0 +1,15 @@
+export type { LineKind, LineListResult, ListedLine } from './lineTypes.js';
+export { formatSpectrum, isElementSymbol, normalizeElement, parseSpectrumName } from './spectrumName.js';
+export type { SpectrumName } from './spectrumName.js';
+export { readIntensityCode } from './intensityCode.js';
+export type { IntensityReading } from './intensityCode.js';
+export { LINE_TABLE_DEFAULTS, parseLineTable } from './parseLineTable.js';
+export type { ParseLineTableOptions } from './parseLineTable.js';
+export { NIST_ASD_DEFAULTS, parseNistAsd, spectrumFromFileName } from './parseNistAsd.js';
+export type { ParseNistAsdOptions } from './parseNistAsd.js';
+export { isNistAsdExport, parseLineFile } from './parseLineFile.js';
+export type { ParseLineFileOptions } from './parseLineFile.js';
+export { SELECT_LINES_DEFAULTS, selectLines } from './selectLines.js';
+export type { SelectLinesOptions } from './selectLines.js';
+export { LAMP_LINES_DEFAULTS, lampLines, parseLampDefinitions, parseLaserDefinitions } from './lamps.js';
+export type { LampCatalog, LampDefinition, LampLine, LampLines, LampLinesOptions, LaserDefinition } from './lamps.js';
