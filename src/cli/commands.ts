@@ -1,7 +1,9 @@
 import type { Command } from 'commander';
 import { registerServe } from './serve.js';
+import { registerGrating } from './grating.js';
 
 /** Every CLI command registers itself here; one file per command in this folder. */
 export const commands: Array<(program: Command) => void> = [
   registerServe,
+  registerGrating,
 ];

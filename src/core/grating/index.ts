@@ -1,0 +1,14 @@
+export { DEG, angularDispersionDegPerNm, deviationDeg, diffractionAngleDeg, littrowAngleDeg, orderLimits, sinDiffraction } from './gratingEquation.js';
+export { FIT_SCREEN_DEFAULTS, fitScreen, screenPositionMm } from './fitScreen.js';
+export type { FitScreenOptions, ScreenPosition, ScreenSeparation } from './fitScreen.js';
+export { FIT_ANGLES_DEFAULTS, fitAngles } from './fitAngles.js';
+export type { FitAnglesOptions, MeasuredAngle } from './fitAngles.js';
+export { lineDensityFromProfile } from './fromProfile.js';
+export type { ProfileLineDensitySource } from './fromProfile.js';
+export { VERDICT_DEFAULTS, gratingVerdict, parseTolerance } from './verdict.js';
+export type { GratingVerdict, Tolerance, VerdictOptions } from './verdict.js';
+export { DERIVED_DEFAULTS, derivedFigures } from './derived.js';
+export type { DerivedFigures, DerivedOptions, OrderFigures } from './derived.js';
+export { ordersFromTable, parseOrderList } from './parseOrders.js';
+export type { OrderTable, OrderValue, ParseOrderListOptions } from './parseOrders.js';
+export type { AngleResidual, GratingMeasurement, LineDensityBudget, PositionResidual } from './types.js';
