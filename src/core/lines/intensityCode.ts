@@ -11,16 +11,18 @@ export interface IntensityReading {
   codes: string;
 }
 
-const CELL = /^[([]?\s*([A-Za-z*:?~]{0,4})\s*(\d+(?:\.\d*)?(?:[eE][+-]?\d+)?|\.\d+)?\s*([A-Za-z*:?~,\-]{0,6})\s*[)\]]?\s*([A-Za-z*:?~,\-]{0,6})$/;
+// (  codes  number  codes  )  codes — the last codes only after a closing parenthesis; no inner spaces.
+const CELL = /^([([])?([A-Za-z*:?~]{0,3})(\d+(?:\.\d*)?(?:[eE][+-]?\d+)?|\.\d+)?([A-Za-z*:?~,\-]{0,4})([)\]])?([A-Za-z*:?~,\-]{0,4})$/;
 
-/** Reads one intensity cell; returns null when the cell is not an intensity at all (garbage). */
 export function readIntensityCode(cell: string): IntensityReading | null {
   const text = cell.trim().replace(/^="?|"$/g, '');
   if (text === '') return { value: null, codes: '' };
-  const m = CELL.exec(text);
+  const m = CELL.exec(text.replace(/^([([])\s+|\s+([)\]])$/g, '$1$2'));
   if (!m) return null;
-  const value = m[2] === undefined ? null : Number(m[2]);
+  if (m[6] && !m[5]) return null;
+  const value = m[3] === undefined ? null : Number(m[3]);
   if (value !== null && !Number.isFinite(value)) return null;
-  const parens = /^[([]/.test(text) ? '()' : '';
-  return { value, codes: parens + m[1] + m[3] + m[4] };
+  const codes = (m[1] || m[5] ? '()' : '') + m[2] + m[4] + m[6];
+  if (value === null && codes.length > 4) return null;
+  return { value, codes };
 }

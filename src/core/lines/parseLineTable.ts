@@ -154,7 +154,7 @@ export function parseLineTable(text: string, options: ParseLineTableOptions): Li
     if (index.spectrum !== undefined && cell('spectrum') !== '') {
       const text = cell('spectrum');
       if (molecular) {
-        element = text.split(/\s+/)[0];
+        element = /^[A-Z][a-z]?\d*/.exec(text)?.[0] ?? text.split(/\s+/)[0]; // 'N2+ 1st negative' → N2
         ionStage = 0;
         spectrum = text;
       } else {

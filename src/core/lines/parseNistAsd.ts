@@ -100,7 +100,8 @@ function readAscii(lines: string[], source: string): Table | null {
     spans
       .map((row) => row.find((s) => s.start <= mid && mid < s.end + 1)?.text ?? '')
       .filter((t) => t !== '' && !/^-+$/.test(t))
-      .join(' ');
+      .join(' ')
+      .replace(/\s+/g, ' ');
   // Column names from the first data line's cell positions.
   const dataLines: Array<{ line: number; text: string }> = [];
   for (let i = headerEnd + 1; i < lines.length; i++) {
