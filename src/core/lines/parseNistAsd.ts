@@ -82,8 +82,12 @@ function readAscii(lines: string[], source: string): Table | null {
   const isRule = (t: string) => /^[\s\-|+=]+$/.test(strip(t)) && /-{5,}/.test(t);
   const headerStart = lines.findIndex((t) => t.includes('|') && /observed|ritz/i.test(t) && /wavelength|observed/i.test(t));
   if (headerStart < 0) return null;
+  // The header ends at a dashed rule, or (in a hand-trimmed export) just before the first row starting with a number.
   let headerEnd = headerStart;
-  while (headerEnd < lines.length && !isRule(lines[headerEnd])) headerEnd++;
+  while (headerEnd < lines.length && !isRule(lines[headerEnd]) && !(headerEnd > headerStart && /^\s*\|?\s*\d/.test(lines[headerEnd]))) {
+    headerEnd++;
+  }
+  const closedByRule = headerEnd < lines.length && isRule(lines[headerEnd]);
   const header = lines.slice(headerStart, headerEnd).map((t) => (t.startsWith('#') ? ' ' + t.slice(1) : t));
   const spans = header.map((t) => {
     const out: Array<{ start: number; end: number; text: string }> = [];
@@ -104,7 +108,7 @@ function readAscii(lines: string[], source: string): Table | null {
       .replace(/\s+/g, ' ');
   // Column names from the first data line's cell positions.
   const dataLines: Array<{ line: number; text: string }> = [];
-  for (let i = headerEnd + 1; i < lines.length; i++) {
+  for (let i = closedByRule ? headerEnd + 1 : headerEnd; i < lines.length; i++) {
     const t = lines[i];
     if (t.trim() === '' || t.startsWith('#') || isRule(t)) continue;
     if (/^[\s|]*$/.test(t)) continue;
@@ -226,6 +230,10 @@ export function parseNistAsd(text: string, source: string, options: ParseNistAsd
       else throw new InputError(message, source);
     };
     if (cells.every((c) => c.trim() === '')) continue;
+    if (table.format === 'nist-asd-ascii' && cells.length < 3) {
+      fail("a row of '|'-separated cells", cells.join('|'));
+      continue;
+    }
     let wavelengthNm: number | null = null;
     let bad = false;
     for (const col of wanted) {

@@ -176,6 +176,25 @@ describe('data/lines (the project line list) against NIST ASD', () => {
   });
 });
 
+describe('persistent-line flags against the NIST Handbook (Sansonetti & Martin) strong-line tables', () => {
+  it('every Ne/Ar/Kr/Xe line flagged P within the tables (380–780 nm) is a Handbook persistent line', () => {
+    const handbook = JSON.parse(readFileSync(path.join(REF, 'nist-handbook-strong-lines-noble-gases.json'), 'utf8')) as {
+      lines: Array<[number, number, string, number, string, string]>;
+    };
+    const roman = ['', 'I', 'II'];
+    const unconfirmed: string[] = [];
+    for (const l of loadAllListedLines()) {
+      if (!l.persistent || !['Ne', 'Ar', 'Kr', 'Xe'].includes(l.element)) continue;
+      const rows = handbook.lines.filter((h) => h[2] === l.element && `${h[2]} ${roman[h[3]]}` === l.spectrum);
+      const span = rows.map((h) => h[0]);
+      if (rows.length === 0 || l.wavelengthNm < Math.min(...span) || l.wavelengthNm > Math.max(...span)) continue; // outside the table
+      const match = rows.filter((h) => Math.abs(h[0] - l.wavelengthNm) <= TOLERANCE_NM);
+      if (!match.some((h) => h[4].includes('P'))) unconfirmed.push(key(l.spectrum, l.wavelengthNm));
+    }
+    expect(unconfirmed).toEqual([]);
+  });
+});
+
 describe('facts of the trade in the line list', () => {
   const listed = loadAllListedLines();
   const has = (spectrum: string, wl: number, tol = 0.0005) =>

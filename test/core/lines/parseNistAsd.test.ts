@@ -128,6 +128,31 @@ describe('parseNistAsd: choices and codes (structure of the ASD outputs, made-up
     expect(r.warnings.filter((w) => /row skipped/.test(w))).toHaveLength(2);
     expect(r.warnings[1]).toMatch(/line 9: expected a relative intensity/);
   });
+  it('reads a Spectrum column (several spectra in one export)', () => {
+    const rule = '-'.repeat(80);
+    const multi = [
+      rule,
+      ' Spectrum |      Observed  |        Ritz    |  Rel. |',
+      '          |     Wavelength |     Wavelength |  Int. |',
+      '          |      Air (nm)  |      Air (nm)  |  (?)  |',
+      rule,
+      '    Ne I  |      585.2488  |      585.2488  | 20000 |',
+      '    Ar II |      487.9864  |      487.9864  |  800  |',
+    ].join('\n');
+    const r = parseNistAsd(multi, 'both.txt');
+    expect(r.lines.map((l) => l.spectrum)).toEqual(['Ar II', 'Ne I']);
+  });
+  it('reads an export trimmed of its rules, and rejects a stray text line in the table', () => {
+    const trimmed = [
+      '      Observed  |        Ritz    |  Rel. |',
+      '     Wavelength |     Wavelength |  Int. |',
+      '      Air (nm)  |      Air (nm)  |       |',
+      '      585.2488  |      585.2488  | 20000 |',
+      '      640.2248  |      640.2248  | 20000 |',
+    ].join('\n');
+    expect(parseNistAsd(trimmed, 'NeI.txt').lines.map((l) => l.wavelengthNm)).toEqual([585.2488, 640.2248]);
+    expect(() => parseNistAsd(trimmed + '\nsee page 2', 'NeI.txt')).toThrow(/NeI\.txt: line 6: expected a row of '\|'-separated cells, got "see page 2"/);
+  });
   it('asks for the spectrum when neither the table nor the file name gives it', () => {
     expect(() => parseNistAsd(text, 'lines.txt')).toThrow(/names no spectrum/);
   });
