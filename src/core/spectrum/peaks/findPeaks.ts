@@ -1,0 +1,530 @@
+import { assertFinite, invalid } from '../../errors.js';
+import type { Peak, Spectrum } from '../../types.js';
+import { estimateBaseline } from './estimateBaseline.js';
+import { findPeakIndices } from './findPeakIndices.js';
+import { fitGaussians, type GaussianComponent } from './fitGaussians.js';
+import { quantileInPlace } from './orderStatistics.js';
+import { peakWidths } from './peakWidths.js';
+import { robustNoise } from './robustNoise.js';
+import { stepAtSample, valueAtSample } from './samplePosition.js';
+import { gaussianOffset, parabolicOffset } from './threePointEstimators.js';
+
+/** FWHM = 2√(2 ln 2) σ for a Gaussian. */
+export const FWHM_PER_SIGMA = 2 * Math.sqrt(2 * Math.LN2);
+
+export interface FindPeaksOptions {
+  /**
+   * Detection threshold k in units of the noise σ: a peak needs a prominence ≥ k·σ and a height above the baseline
+   * ≥ k·σ, both on the baseline-subtracted spectrum. With 5, white Gaussian noise alone exceeds it in about 3 samples
+   * in 10⁷ (one-sided normal tail), so a 4000-sample spectrum of pure noise gives a false peak about once in 1000.
+   * @default 5
+   */
+  thresholdSigma?: number;
+  /** Per-sample noise σ of the intensity; measured with robustNoise (outside the found lines) when absent. */
+  noise?: number;
+  /**
+   * Baseline window in samples; 'auto' takes 20 × the median width of the strong lines (at least 51, at most a
+   * quarter of the spectrum; 101 when no strong line stands out); 'none' uses a zero baseline. @default 'auto'
+   */
+  baselineWindowSamples?: number | 'auto' | 'none';
+  /** Half-width of each line's fit window, in units of its estimated FWHM (at least 3 samples). @default 1.5 */
+  fitWindowFwhm?: number;
+  /** Minimum spacing of two peaks in samples (scipy's `distance`; the lower one goes). @default 1 */
+  minSeparationSamples?: number;
+  /** `blended` when another peak's centre lies within this many FWHM (the larger of the two). @default 1.5 */
+  blendSeparationFwhm?: number;
+  /**
+   * `blended` also when a line's FWHM exceeds this multiple of the median FWHM of the nearest clean, strong lines
+   * (up to 7; SNR ≥ 10, not blended or saturated) by more than twice its uncertainty: an unresolved pair looks like
+   * one broad line (two equal lines 0.6 FWHM apart fit as one 1.29× as wide), which is how "a second component is
+   * needed" shows without fitting one — a two-component fit would also take every non-Gaussian instrument profile
+   * at high SNR for a blend. Needs at least 3 clean lines in the spectrum. @default 1.25
+   */
+  blendWidthRatio?: number;
+  /** Lower bound on the reported position uncertainty, px (pixel-phase and line-shape errors of a Gaussian model). @default 0.01 */
+  minPositionUncertaintyPx?: number;
+  /** Most lines fitted together in one window; longer chains of overlapping lines are split. @default 6 */
+  maxGroupSize?: number;
+}
+
+export const FIND_PEAKS_DEFAULTS = {
+  thresholdSigma: 5,
+  baselineWindowSamples: 'auto',
+  fitWindowFwhm: 1.5,
+  minSeparationSamples: 1,
+  blendSeparationFwhm: 1.5,
+  blendWidthRatio: 1.25,
+  minPositionUncertaintyPx: 0.01,
+  maxGroupSize: 6,
+} as const satisfies Omit<Required<FindPeaksOptions>, 'noise'>;
+
+/** How one peak's numbers were obtained. */
+export interface PeakFitReport {
+  /** The sample at the top of the peak (middle of a flat top, rounded down). */
+  sampleIndex: number;
+  /** Fitted centre in fractional samples. */
+  centerSample: number;
+  /** 'gaussian': least-squares fit; 'three-point': the fit failed its checks, the three-point estimate is reported. */
+  method: 'gaussian' | 'three-point';
+  /** χ²/dof of the fit window (weights 1/σ²); ≈ 1 for a clean Gaussian line. */
+  reducedChi2: number;
+  /** Number of lines fitted together with this one (1 = alone). */
+  groupSize: number;
+  /** Samples left out of the fit because they were saturated. */
+  excludedSamples: number;
+}
+
+export interface PeakSearch {
+  /** The peak table, ascending in position. */
+  peaks: Peak[];
+  /** Aligned with `peaks`. */
+  fits: PeakFitReport[];
+  /** Per-sample noise σ used for the threshold and the SNR. */
+  noise: number;
+  /** The baseline subtracted before detection and fitting (zeros for 'none'). */
+  baseline: Float64Array;
+  baselineWindowSamples: number | 'none';
+  /** The prominence and height threshold k·σ. */
+  threshold: number;
+  warnings: string[];
+}
+
+interface Candidate {
+  index: number;
+  prominence: number;
+  center0: number;
+  sigma0: number;
+  amplitude0: number;
+  lo: number;
+  hi: number;
+  fit: GaussianComponent;
+  centerSd: number;
+  sigmaSd: number;
+  method: 'gaussian' | 'three-point';
+  reducedChi2: number;
+  groupSize: number;
+  excluded: number;
+}
+
+/** The peak table of a spectrum; see findPeaksDetailed. */
+export function findPeaks(spectrum: Spectrum, options: FindPeaksOptions = {}): Peak[] {
+  return findPeaksDetailed(spectrum, options).peaks;
+}
+
+/**
+ * Finds the emission lines of a 1-D spectrum and measures them:
+ *  1. noise σ by robustNoise; baseline by estimateBaseline; everything below works on intensity − baseline;
+ *  2. detection as scipy.signal.find_peaks with height ≥ k·σ and prominence ≥ k·σ (k = thresholdSigma); the noise is
+ *     then re-measured with the found lines left out and detection repeated once;
+ *  3. each line's centre, σ and amplitude by a least-squares Gaussian fit (+ constant offset) over ±fitWindowFwhm·FWHM,
+ *     started from the three-point Gaussian estimate and the scipy width at half prominence; lines whose windows
+ *     overlap are fitted together, and the wings of lines outside a window are subtracted first; saturated samples
+ *     are left out of the fit, so a clipped line's centre and height come from its unclipped flanks;
+ *  4. the centre uncertainty is the fit's standard error (weights 1/σ², or 1/variance when the spectrum has it,
+ *     inflated by χ²/dof when that exceeds 1), floored at minPositionUncertaintyPx.
+ * Positions, FWHM and area are converted from samples to px through `spectrum.positionPx`. `saturated` is set when a
+ * sample of the line's window is flagged in `spectrum.saturated` or, without flags, when ≥ 3 consecutive samples there
+ * sit exactly at the spectrum's maximum (a clipped flat top). `blended`: see blendSeparationFwhm and blendWidthRatio.
+ * `rgb` is the share of each channel (baseline-subtracted) in the line's core, centre ± FWHM/2.
+ */
+export function findPeaksDetailed(spectrum: Spectrum, options: FindPeaksOptions = {}): PeakSearch {
+  const o = resolveOptions(options);
+  const y = spectrum.intensity;
+  const n = y.length;
+  if (spectrum.positionPx.length !== n) {
+    throw invalid('spectrum.positionPx', `${n} values, one per intensity sample`, spectrum.positionPx.length);
+  }
+  const warnings: string[] = [];
+  const emptyResult = (noise: number, baseline: Float64Array): PeakSearch => ({
+    peaks: [],
+    fits: [],
+    noise,
+    baseline,
+    baselineWindowSamples: 'none',
+    threshold: o.thresholdSigma * noise,
+    warnings,
+  });
+  if (n < 5) {
+    warnings.push(`the spectrum has ${n} samples; at least 5 are needed to find peaks`);
+    return emptyResult(NaN, new Float64Array(n));
+  }
+  let maxAbs = 0;
+  for (let i = 0; i < n; i++) if (Number.isFinite(y[i])) maxAbs = Math.max(maxAbs, Math.abs(y[i]));
+  const noiseFloor = Math.max(1e-12 * maxAbs, Number.MIN_VALUE);
+  let noise = options.noise ?? robustNoise(y);
+  if (!(noise >= noiseFloor)) {
+    if (options.noise === undefined) warnings.push('the spectrum shows no measurable noise; the threshold rests on a numerical floor');
+    noise = noiseFloor;
+  }
+
+  const windowSamples = resolveBaselineWindow(y, noise, o.baselineWindowSamples);
+  const baseline = windowSamples === 'none' ? new Float64Array(n) : estimateBaseline(y, { windowSamples, noise });
+  const r = new Float64Array(n);
+  for (let i = 0; i < n; i++) r[i] = y[i] - baseline[i];
+  let candidates = detect(r, noise, o);
+  if (options.noise === undefined && candidates.length > 0) {
+    // Re-measure the noise outside the lines (their flanks widen the MAD of the differences) and detect again.
+    const exclude = new Uint8Array(n);
+    for (const c of candidates) {
+      const h = 2 * FWHM_PER_SIGMA * c.sigma0 + 1;
+      for (let i = Math.max(0, Math.floor(c.center0 - h)); i <= Math.min(n - 1, Math.ceil(c.center0 + h)); i++) exclude[i] = 1;
+    }
+    let kept = 0;
+    for (let i = 0; i < n; i++) kept += exclude[i] ? 0 : 1;
+    if (kept >= Math.max(20, 0.2 * n)) {
+      const refined = robustNoise(y, { exclude });
+      if (refined >= noiseFloor && Math.abs(refined - noise) > 0.02 * noise) {
+        // The baseline's clip level moves with the noise, but by a few per cent of σ: it is kept.
+        noise = refined;
+        candidates = detect(r, noise, o);
+      }
+    }
+  }
+  const threshold = o.thresholdSigma * noise;
+  if (candidates.length === 0) return { ...emptyResult(noise, baseline), baselineWindowSamples: windowSamples, threshold };
+
+  const saturated = saturationMask(spectrum);
+  fitAll(r, candidates, spectrum, saturated, noise, o);
+
+  const peaks: Peak[] = [];
+  const fits: PeakFitReport[] = [];
+  const pos = spectrum.positionPx;
+  for (const c of candidates) {
+    const s = c.fit.center;
+    const step = Math.abs(stepAtSample(pos, s));
+    const fwhmSamples = FWHM_PER_SIGMA * c.fit.sigma;
+    let sat = false;
+    if (saturated) for (let i = c.lo; i <= c.hi && !sat; i++) sat = saturated[i] === 1;
+    peaks.push({
+      positionPx: valueAtSample(pos, s),
+      positionUncertaintyPx: Math.max(c.centerSd * step, o.minPositionUncertaintyPx),
+      fwhmPx: fwhmSamples * step,
+      height: c.fit.amplitude,
+      area: c.fit.amplitude * c.fit.sigma * Math.sqrt(2 * Math.PI) * step,
+      prominence: c.prominence,
+      snr: c.fit.amplitude / noise,
+      saturated: sat,
+      blended: false,
+    });
+    fits.push({
+      sampleIndex: c.index,
+      centerSample: s,
+      method: c.method,
+      reducedChi2: c.reducedChi2,
+      groupSize: c.groupSize,
+      excludedSamples: c.excluded,
+    });
+  }
+  markBlends(peaks, candidates, noise, o);
+  if (spectrum.channels) addColours(peaks, candidates, spectrum.channels, windowSamples);
+  const fallbacks = fits.filter((f) => f.method === 'three-point').length;
+  if (fallbacks > 0) warnings.push(`${fallbacks} peak(s) could not be fitted; their three-point estimates are reported`);
+  return { peaks, fits, noise, baseline, baselineWindowSamples: windowSamples, threshold, warnings };
+}
+
+type ResolvedOptions = typeof FIND_PEAKS_DEFAULTS & { baselineWindowSamples: number | 'auto' | 'none' } & Record<
+  'thresholdSigma' | 'fitWindowFwhm' | 'minSeparationSamples' | 'blendSeparationFwhm' | 'blendWidthRatio' | 'minPositionUncertaintyPx' | 'maxGroupSize',
+  number
+>;
+
+function resolveOptions(options: FindPeaksOptions): ResolvedOptions {
+  const o = { ...FIND_PEAKS_DEFAULTS } as ResolvedOptions;
+  for (const [key, value] of Object.entries(options)) if (value !== undefined) (o as Record<string, unknown>)[key] = value;
+  assertFinite('thresholdSigma', o.thresholdSigma, 0);
+  if (options.noise !== undefined) assertFinite('noise', options.noise, 0);
+  const w = o.baselineWindowSamples;
+  if (w !== 'auto' && w !== 'none') assertFinite('baselineWindowSamples', w, 3);
+  assertFinite('fitWindowFwhm', o.fitWindowFwhm, 0.5);
+  assertFinite('minSeparationSamples', o.minSeparationSamples, 1);
+  assertFinite('blendSeparationFwhm', o.blendSeparationFwhm, 0);
+  assertFinite('blendWidthRatio', o.blendWidthRatio, 1);
+  assertFinite('minPositionUncertaintyPx', o.minPositionUncertaintyPx, 0);
+  assertFinite('maxGroupSize', o.maxGroupSize, 1);
+  return o;
+}
+
+/**
+ * 20 × the median width at half prominence of the strongest narrow lines of the raw spectrum, within [51, n/4]
+ * (at least 51). Prominence is taken within ±n/40 samples (at least ±25), so that a broad continuum hump is not
+ * mistaken for a line.
+ */
+function resolveBaselineWindow(y: ArrayLike<number>, noise: number, setting: number | 'auto' | 'none'): number | 'none' {
+  if (setting === 'none') return 'none';
+  if (setting !== 'auto') return Math.min(setting, Math.max(3, y.length));
+  const n = y.length;
+  const fallback = Math.min(101, n);
+  const found = findPeakIndices(y, { prominence: 10 * noise, wlen: Math.max(51, Math.ceil(n / 20)) });
+  if (found.peaks.length === 0) return fallback;
+  const proms = found.properties.prominences!;
+  const order = Array.from(found.peaks.keys()).sort((a, b) => proms[b] - proms[a]);
+  const top = order.slice(0, 20).sort((a, b) => a - b);
+  const widths = peakWidths(y, top.map((i) => found.peaks[i]), {
+    prominenceData: {
+      prominences: Float64Array.from(top, (i) => proms[i]),
+      leftBases: Int32Array.from(top, (i) => found.properties.leftBases![i]),
+      rightBases: Int32Array.from(top, (i) => found.properties.rightBases![i]),
+    },
+  }).widths;
+  const median = quantileInPlace(Float64Array.from(widths), 0.5);
+  if (!(median > 0)) return fallback;
+  return Math.min(n, Math.max(51, Math.min(Math.round(20 * median), Math.floor(n / 4))));
+}
+
+function detect(r: Float64Array, noise: number, o: ResolvedOptions): Candidate[] {
+  const threshold = o.thresholdSigma * noise;
+  const found = findPeakIndices(r, {
+    plateauSize: [null, null],
+    height: threshold,
+    distance: o.minSeparationSamples > 1 ? o.minSeparationSamples : undefined,
+    prominence: threshold,
+  });
+  const { peaks, properties } = found;
+  const widths = peakWidths(r, peaks, {
+    prominenceData: { prominences: properties.prominences!, leftBases: properties.leftBases!, rightBases: properties.rightBases! },
+  }).widths;
+  const n = r.length;
+  const out: Candidate[] = [];
+  for (let j = 0; j < peaks.length; j++) {
+    const p = peaks[j];
+    const left = properties.leftEdges![j];
+    const right = properties.rightEdges![j];
+    let center0 = p;
+    if (right > left) center0 = (left + right) / 2;
+    else {
+      let d = gaussianOffset(r[p - 1], r[p], r[p + 1]);
+      if (!(Math.abs(d) < 1)) d = parabolicOffset(r[p - 1], r[p], r[p + 1]);
+      if (Math.abs(d) < 1) center0 = p + d;
+    }
+    const sigma0 = Math.max(widths[j] / FWHM_PER_SIGMA, 0.4);
+    const half = Math.max(o.fitWindowFwhm * FWHM_PER_SIGMA * sigma0, 3);
+    out.push({
+      index: p,
+      prominence: properties.prominences![j],
+      center0,
+      sigma0,
+      amplitude0: r[p],
+      lo: Math.max(0, Math.floor(center0 - half)),
+      hi: Math.min(n - 1, Math.ceil(center0 + half)),
+      fit: { amplitude: r[p], center: center0, sigma: sigma0 },
+      centerSd: NaN,
+      sigmaSd: NaN,
+      method: 'three-point',
+      reducedChi2: NaN,
+      groupSize: 1,
+      excluded: 0,
+    });
+  }
+  return out;
+}
+
+/**
+ * Per-sample saturation: the spectrum's own flags, or — without flags — runs of ≥ 3 samples exactly at the maximum
+ * (a clipped flat top). Null when nothing is saturated.
+ */
+function saturationMask(spectrum: Spectrum): Uint8Array | null {
+  const n = spectrum.intensity.length;
+  if (spectrum.saturated) {
+    if (spectrum.saturated.length !== n) {
+      throw invalid('spectrum.saturated', `${n} flags, one per intensity sample`, spectrum.saturated.length);
+    }
+    return spectrum.saturated.some((v) => v !== 0) ? Uint8Array.from(spectrum.saturated, (v) => (v ? 1 : 0)) : null;
+  }
+  const y = spectrum.intensity;
+  let top = -Infinity;
+  for (let i = 0; i < n; i++) if (y[i] > top) top = y[i];
+  if (!(top > 0)) return null;
+  let mask: Uint8Array | null = null;
+  for (let i = 0; i < n; ) {
+    if (y[i] !== top) {
+      i++;
+      continue;
+    }
+    let j = i;
+    while (j < n && y[j] === top) j++;
+    if (j - i >= 3) {
+      mask ??= new Uint8Array(n);
+      mask.fill(1, i, j);
+    }
+    i = j;
+  }
+  return mask;
+}
+
+/** Groups lines with overlapping windows (chains cut into pieces of at most maxGroupSize) and fits each group. */
+function fitAll(
+  r: Float64Array,
+  cands: Candidate[],
+  spectrum: Spectrum,
+  saturated: Uint8Array | null,
+  noise: number,
+  o: ResolvedOptions,
+): void {
+  const groups: number[][] = [];
+  let current: number[] = [];
+  for (let j = 0; j < cands.length; j++) {
+    if (current.length > 0 && (cands[j].lo > cands[current[current.length - 1]].hi || current.length >= o.maxGroupSize)) {
+      groups.push(current);
+      current = [];
+    }
+    current.push(j);
+  }
+  if (current.length > 0) groups.push(current);
+  const variance = spectrum.variance;
+  const baseWeight = 1 / (noise * noise);
+  // Scratch buffers sized for the widest group window.
+  let widest = 0;
+  for (const g of groups) widest = Math.max(widest, cands[g[g.length - 1]].hi - cands[g[0]].lo + 1);
+  const xs = new Float64Array(widest);
+  const ys = new Float64Array(widest);
+  const ws = new Float64Array(widest);
+  for (let gi = 0; gi < groups.length; gi++) {
+    const g = groups[gi];
+    const lo = cands[g[0]].lo;
+    const hi = cands[g[g.length - 1]].hi;
+    // Neighbours outside the group whose wings may reach the window (current estimates: fitted on the left).
+    const others: GaussianComponent[] = [];
+    for (let j = Math.max(0, g[0] - 3); j <= Math.min(cands.length - 1, g[g.length - 1] + 3); j++) {
+      if (j < g[0] || j > g[g.length - 1]) others.push(cands[j].fit);
+    }
+    let m = 0;
+    let excluded = 0;
+    for (let i = lo; i <= hi; i++) {
+      if (saturated && saturated[i]) {
+        excluded++;
+        continue;
+      }
+      if (!Number.isFinite(r[i])) continue;
+      let v = r[i];
+      for (const c of others) {
+        const t = (i - c.center) / c.sigma;
+        if (t * t < 50) v -= c.amplitude * Math.exp(-0.5 * t * t);
+      }
+      let w = baseWeight;
+      if (variance && variance[i] > 0 && Number.isFinite(variance[i])) w = 1 / variance[i];
+      xs[m] = i;
+      ys[m] = v;
+      ws[m] = w;
+      m++;
+    }
+    for (const j of g) {
+      cands[j].groupSize = g.length;
+      cands[j].excluded = excluded;
+    }
+    const nParams = 1 + 3 * g.length;
+    if (m < nParams + 2) {
+      for (const j of g) fallBack(cands[j], noise);
+      continue;
+    }
+    const fit = fitGaussians(
+      xs.subarray(0, m),
+      ys.subarray(0, m),
+      g.map((j) => ({ amplitude: cands[j].amplitude0, center: cands[j].center0, sigma: cands[j].sigma0 })),
+      {
+        weights: ws.subarray(0, m),
+        centerBounds: g.map((j) => [cands[j].lo, cands[j].hi] as const),
+        sigmaBounds: [0.3, Math.max(hi - lo, 1)],
+      },
+    );
+    g.forEach((j, k) => {
+      const c = cands[j];
+      const f = fit.components[k];
+      const u = fit.uncertainties[k];
+      const moved = Math.abs(f.center - c.center0);
+      const ok =
+        Number.isFinite(f.center) &&
+        Number.isFinite(u.center) &&
+        u.center > 0 &&
+        f.amplitude > 0 &&
+        moved <= Math.max(1, 0.5 * FWHM_PER_SIGMA * c.sigma0) &&
+        f.sigma < 0.99 * Math.max(hi - lo, 1);
+      if (!ok) {
+        fallBack(c, noise);
+        return;
+      }
+      c.fit = f;
+      c.centerSd = u.center;
+      c.sigmaSd = u.sigma;
+      c.method = 'gaussian';
+      c.reducedChi2 = fit.reducedChi2;
+    });
+  }
+}
+
+/**
+ * The three-point estimate, with an uncertainty of twice the Cramér–Rao bound for a Gaussian's centre in white noise,
+ * σ_μ = √(2σ/√π) · noise / amplitude (σ in samples; from the Fisher information Σ(∂g/∂μ)² ≈ a²√π / (2σ)).
+ */
+function fallBack(c: Candidate, noise: number): void {
+  c.fit = { amplitude: c.amplitude0, center: c.center0, sigma: c.sigma0 };
+  c.centerSd = 2 * Math.sqrt((2 * c.sigma0) / Math.sqrt(Math.PI)) * (noise / Math.max(c.amplitude0, noise));
+  c.sigmaSd = NaN;
+  c.method = 'three-point';
+  c.reducedChi2 = NaN;
+}
+
+function markBlends(peaks: Peak[], cands: Candidate[], noise: number, o: ResolvedOptions): void {
+  const fwhm = cands.map((c) => FWHM_PER_SIGMA * c.fit.sigma);
+  for (let j = 0; j + 1 < cands.length; j++) {
+    const gap = cands[j + 1].fit.center - cands[j].fit.center;
+    if (gap < o.blendSeparationFwhm * Math.max(fwhm[j], fwhm[j + 1])) {
+      peaks[j].blended = true;
+      peaks[j + 1].blended = true;
+    }
+  }
+  // Width test against the nearest clean, strong lines (the instrument's line width drifts along a spectrum with
+  // focus, so a local reference is fairer than the global one).
+  const clean: number[] = [];
+  cands.forEach((c, j) => {
+    if (!peaks[j].blended && !peaks[j].saturated && c.method === 'gaussian' && c.fit.amplitude >= 10 * noise) clean.push(j);
+  });
+  if (clean.length < 3) return;
+  const near = new Float64Array(BLEND_REFERENCE_LINES);
+  cands.forEach((c, j) => {
+    if (c.method !== 'gaussian' || peaks[j].saturated) return;
+    // The reference lines nearest in position, this one left out.
+    const others = clean.filter((k) => k !== j);
+    others.sort((a, b) => Math.abs(cands[a].fit.center - c.fit.center) - Math.abs(cands[b].fit.center - c.fit.center));
+    const m = Math.min(BLEND_REFERENCE_LINES, others.length);
+    for (let k = 0; k < m; k++) near[k] = fwhm[others[k]];
+    const reference = quantileInPlace(near, 0.5, 0, m - 1);
+    const excess = fwhm[j] - o.blendWidthRatio * reference;
+    if (excess > 0 && excess > 2 * FWHM_PER_SIGMA * c.sigmaSd) peaks[j].blended = true;
+  });
+}
+
+/** How many neighbouring clean lines set the reference width of the blend test. */
+const BLEND_REFERENCE_LINES = 7;
+
+function addColours(
+  peaks: Peak[],
+  cands: Candidate[],
+  channels: NonNullable<Spectrum['channels']>,
+  windowSamples: number | 'none',
+): void {
+  const list = [channels.r, channels.g, channels.b];
+  const n = channels.r.length;
+  const baselines = list.map((ch) => {
+    const noise = robustNoise(ch);
+    return noise > 0 && windowSamples !== 'none' ? estimateBaseline(ch, { noise, windowSamples }) : new Float64Array(n);
+  });
+  cands.forEach((c, j) => {
+    const half = Math.max(0.5, 0.5 * FWHM_PER_SIGMA * c.fit.sigma);
+    const lo = Math.max(0, Math.ceil(c.fit.center - half));
+    const hi = Math.min(n - 1, Math.floor(c.fit.center + half));
+    const sums = [0, 0, 0];
+    const raw = [0, 0, 0];
+    for (let i = lo; i <= hi; i++) {
+      for (let k = 0; k < 3; k++) {
+        sums[k] += list[k][i] - baselines[k][i];
+        raw[k] += list[k][i];
+      }
+    }
+    let use = sums.map((v) => Math.max(0, v));
+    let total = use[0] + use[1] + use[2];
+    if (!(total > 0)) {
+      use = raw.map((v) => Math.max(0, v));
+      total = use[0] + use[1] + use[2];
+    }
+    if (total > 0) peaks[j].rgb = { r: use[0] / total, g: use[1] / total, b: use[2] / total };
+  });
+}
