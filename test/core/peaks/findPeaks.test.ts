@@ -171,6 +171,16 @@ describe('findPeaks(spectrum) flags', () => {
     expect(unflagged.map((p) => p.saturated)).toEqual([false, true, false]);
   });
 
+  it('does not take a weak line whose top repeats at the maximum for a clipped one', () => {
+    // Integer counts, σ ≈ 1: a 10σ line whose three top samples happen to read the same maximum value.
+    const rng = createRandom(14);
+    const intensity = Float64Array.from({ length: 300 }, () => Math.round(10 + rng.normal()));
+    intensity.set([12, 16, 20, 20, 20, 16, 12], 147);
+    const peaks = findPeaks({ positionPx: index(300), intensity });
+    expect(peaks.length).toBe(1);
+    expect(peaks[0].saturated).toBe(false);
+  });
+
   it('flags two lines closer than 1.5 FWHM as blended, and an unresolved pair by its width', () => {
     const n = 800;
     const rng = createRandom(12);
@@ -334,6 +344,31 @@ describe('findPeaks(spectrum) positions, variance and edge cases', () => {
       blendWidthRatio: 1.25,
       minPositionUncertaintyPx: 0.01,
       maxGroupSize: 6,
+    });
+  });
+});
+
+describe('findPeaks(spectrum) on pixel-integrated lines', () => {
+  it('reads the FWHM of the sampled profile, √(σ² + 1/12) for a Gaussian integrated over unit pixels', () => {
+    // A pixel integrating a Gaussian adds the variance of a unit box, 1/12 px² (moments of a convolution, from
+    // memory). Integrated here by averaging 200 sub-samples per pixel.
+    const n = 300;
+    const lines: Line[] = [
+      { center: 60.3, sigma: 1.2, amplitude: 1000 },
+      { center: 150.71, sigma: 1.2, amplitude: 1000 },
+      { center: 240.5, sigma: 1.2, amplitude: 1000 },
+    ];
+    const intensity = Float64Array.from({ length: n }, (_, i) => {
+      let v = 0;
+      for (let k = 0; k < 200; k++) v += lines.reduce((s, l) => s + gauss(i - 0.5 + (k + 0.5) / 200, l), 0);
+      return 5 + v / 200;
+    });
+    const peaks = findPeaks({ positionPx: index(n), intensity }, { noise: 0.01 });
+    expect(peaks.length).toBe(3);
+    peaks.forEach((p, k) => {
+      expect(Math.abs(p.positionPx - lines[k].center)).toBeLessThanOrEqual(0.005);
+      const want = FWHM_PER_SIGMA * Math.sqrt(1.2 ** 2 + 1 / 12);
+      expect(Math.abs(p.fwhmPx / want - 1)).toBeLessThanOrEqual(0.01);
     });
   });
 });

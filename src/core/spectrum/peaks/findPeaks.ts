@@ -124,7 +124,8 @@ export function findPeaks(spectrum: Spectrum, options: FindPeaksOptions = {}): P
  *     inflated by χ²/dof when that exceeds 1), floored at minPositionUncertaintyPx.
  * Positions, FWHM and area are converted from samples to px through `spectrum.positionPx`. `saturated` is set when a
  * sample of the line's window is flagged in `spectrum.saturated` or, without flags, when ≥ 3 consecutive samples there
- * sit exactly at the spectrum's maximum (a clipped flat top). `blended`: see blendSeparationFwhm and blendWidthRatio.
+ * sit exactly at the spectrum's maximum, ≥ 20σ above the baseline (a clipped flat top). FWHM is that of the sampled
+ * profile: for camera pixels that integrate a Gaussian of σ it reads √(σ² + 1/12 px²) (the pixel's own variance). `blended`: see blendSeparationFwhm and blendWidthRatio.
  * `rgb` is the share of each channel (baseline-subtracted) in the line's core, centre ± FWHM/2.
  */
 export function findPeaksDetailed(spectrum: Spectrum, options: FindPeaksOptions = {}): PeakSearch {
@@ -183,7 +184,7 @@ export function findPeaksDetailed(spectrum: Spectrum, options: FindPeaksOptions 
   const threshold = o.thresholdSigma * noise;
   if (candidates.length === 0) return { ...emptyResult(noise, baseline), baselineWindowSamples: windowSamples, threshold };
 
-  const saturated = saturationMask(spectrum);
+  const saturated = saturationMask(spectrum, r, noise);
   fitAll(r, candidates, spectrum, saturated, noise, o);
 
   const peaks: Peak[] = [];
@@ -319,9 +320,10 @@ function detect(r: Float64Array, noise: number, o: ResolvedOptions): Candidate[]
 
 /**
  * Per-sample saturation: the spectrum's own flags, or — without flags — runs of ≥ 3 samples exactly at the maximum
- * (a clipped flat top). Null when nothing is saturated.
+ * that stand ≥ 20σ above the baseline (a clipped flat top; the height condition keeps low integer counts that
+ * happen to repeat at the top from counting). Null when nothing is saturated.
  */
-function saturationMask(spectrum: Spectrum): Uint8Array | null {
+function saturationMask(spectrum: Spectrum, r: Float64Array, noise: number): Uint8Array | null {
   const n = spectrum.intensity.length;
   if (spectrum.saturated) {
     if (spectrum.saturated.length !== n) {
@@ -341,7 +343,7 @@ function saturationMask(spectrum: Spectrum): Uint8Array | null {
     }
     let j = i;
     while (j < n && y[j] === top) j++;
-    if (j - i >= 3) {
+    if (j - i >= 3 && r[i] >= 20 * noise) {
       mask ??= new Uint8Array(n);
       mask.fill(1, i, j);
     }
@@ -479,13 +481,20 @@ function markBlends(peaks: Peak[], cands: Candidate[], noise: number, o: Resolve
   });
   if (clean.length < 3) return;
   const near = new Float64Array(BLEND_REFERENCE_LINES);
+  let split = 0; // first clean line at or after j (both lists ascend in position)
   cands.forEach((c, j) => {
+    while (split < clean.length && clean[split] < j) split++;
     if (c.method !== 'gaussian' || peaks[j].saturated) return;
-    // The reference lines nearest in position, this one left out.
-    const others = clean.filter((k) => k !== j);
-    others.sort((a, b) => Math.abs(cands[a].fit.center - c.fit.center) - Math.abs(cands[b].fit.center - c.fit.center));
-    const m = Math.min(BLEND_REFERENCE_LINES, others.length);
-    for (let k = 0; k < m; k++) near[k] = fwhm[others[k]];
+    // The reference lines nearest in position, this one left out: walk outwards from j.
+    let left = split - 1;
+    let right = split < clean.length && clean[split] === j ? split + 1 : split;
+    let m = 0;
+    while (m < BLEND_REFERENCE_LINES && (left >= 0 || right < clean.length)) {
+      const dl = left >= 0 ? c.fit.center - cands[clean[left]].fit.center : Infinity;
+      const dr = right < clean.length ? cands[clean[right]].fit.center - c.fit.center : Infinity;
+      near[m++] = fwhm[clean[dl <= dr ? left-- : right++]];
+    }
+    if (m === 0) return;
     const reference = quantileInPlace(near, 0.5, 0, m - 1);
     const excess = fwhm[j] - o.blendWidthRatio * reference;
     if (excess > 0 && excess > 2 * FWHM_PER_SIGMA * c.sigmaSd) peaks[j].blended = true;

@@ -48,8 +48,8 @@ export interface GaussianFit {
  * Levenberg–Marquardt (Marquardt 1963; damping update of Nielsen 1999, as in src/core/fit/levenbergMarquardt) with the
  * analytic Jacobian, parameters clamped to their bounds after each step, amplitudes ≥ 0 (emission lines).
  * A dedicated version of the general fitter: the model and Jacobian share one exp per point and component and all
- * work happens in preallocated arrays, which makes it some ten times faster on the small windows of a peak table
- * (the tests check it against the general fitter).
+ * work happens in preallocated arrays, which makes it about twice as fast on the small windows of a peak table
+ * (measured on a 13-point single-line window); the tests check its results against the general fitter.
  */
 export function fitGaussians(
   x: ArrayLike<number>,
