@@ -12,7 +12,7 @@ export interface EstimateBaselineOptions {
   clipSigma?: number;
   /** Samples masked on each side of a run above the clip level, for the line wings. @default ⌈windowSamples/30⌉ */
   maskMarginSamples?: number;
-  /** Smoothing passes: the first two clip every sample, the rest mask the lines. @default 4 */
+  /** Smoothing passes; the first two mask only strong lines (see below). @default 4 */
   iterations?: number;
 }
 
@@ -25,14 +25,14 @@ const CLIP_PASSES = 2;
  * A slowly varying baseline (background continuum) under an emission spectrum, by iterative masked smoothing:
  *  1. a coarse start: the `quantile` (default 20th percentile) of windows of `windowSamples`, centred every half
  *     window and linearly interpolated — a low quantile stays on the background where lines cover most of a window;
- *  2. two passes of clipped smoothing — every sample clipped to at most baseline + clipSigma·σ, then smoothed by a
- *     moving straight-line fit over the window (local linear regression, which, unlike a moving average, follows a
- *     slope to the ends of the spectrum) — lift the start, biased low by the quantile and any slope, onto the
- *     background;
- *  3. then, up to `iterations` passes in all: every run of ≥ 2 samples above baseline + clipSigma·σ is a line and is masked out
- *     together with maskMarginSamples on each side (its wings); a lone sample above that level is a noise spike and
- *     is clipped to it; the rest is smoothed the same way. Where a window is almost all masked, the previous
- *     estimate stays.
+ *  2. `iterations` passes of masked, clipped smoothing: every run of ≥ 2 samples above the current baseline + the mask
+ *     level is a line and is masked out together with maskMarginSamples on each side (its wings); every other sample
+ *     is clipped to at most baseline + clipSigma·σ (a lone high sample is a noise spike); the kept samples are smoothed
+ *     by a moving straight-line fit over the window (local linear regression, which, unlike a moving average, follows
+ *     a slope to the ends of the spectrum), and the baseline under each masked run — and wherever fewer than 10 % of
+ *     the window's samples are kept — is the straight line between the background on its two sides. The first two passes mask only strong lines (mask level 3·clipSigma·σ), while
+ *     clipping lifts the start — biased low by the quantile and by any slope across a window — onto the background;
+ *     the later ones mask at clipSigma·σ.
  * Clipping instead of masking every sample above the level would bias the baseline up by about 2σ·f/(1 − f) where
  * lines cover a fraction f of a window; masking runs avoids that, and clipping lone spikes at +2σ biases line-free
  * noise by only −0.0085σ (E[min(Z, 2)]). Non-finite samples are ignored. Common practice for emission spectra, no
@@ -81,15 +81,22 @@ export function estimateBaseline(y: ArrayLike<number>, options: EstimateBaseline
   const sv = new Float64Array(n + 1);
   const stv = new Float64Array(n + 1);
   for (let it = 0; it < iterations; it++) {
+    // Lines: runs of ≥ 2 samples above the mask level, widened by the margin. The first passes mask only strong
+    // lines (3 × the clip level), since the start may sit low enough that noise would read as lines.
+    const maskLevel = (it < CLIP_PASSES ? 3 : 1) * limit;
     masked.fill(0);
-    for (let i = 0; it >= CLIP_PASSES && i < n; ) {
-      if (!(y[i] > out[i] + limit)) {
+    let anyMasked = false;
+    for (let i = 0; i < n; ) {
+      if (!(y[i] > out[i] + maskLevel)) {
         i++;
         continue;
       }
       let j = i;
-      while (j < n && y[j] > out[j] + limit) j++;
-      if (j - i >= 2) masked.fill(1, Math.max(0, i - margin), Math.min(n, j + margin));
+      while (j < n && y[j] > out[j] + maskLevel) j++;
+      if (j - i >= 2) {
+        masked.fill(1, Math.max(0, i - margin), Math.min(n, j + margin));
+        anyMasked = true;
+      }
       i = j;
     }
     for (let i = 0; i < n; i++) {
@@ -105,10 +112,16 @@ export function estimateBaseline(y: ArrayLike<number>, options: EstimateBaseline
       stv[i + 1] = stv[i] + t * v;
     }
     for (let i = 0; i < n; i++) {
+      if (masked[i]) continue;
       const a = i > half ? i - half : 0;
       const b = i + half + 1 < n ? i + half + 1 : n;
       const w0 = s0[b] - s0[a];
-      if (w0 < minWeight) continue;
+      if (w0 < minWeight) {
+        // Too little background around this sample to estimate it: it is bridged like the lines.
+        masked[i] = 1;
+        anyMasked = true;
+        continue;
+      }
       const w1 = s1[b] - s1[a];
       const w2 = s2[b] - s2[a];
       const v0 = sv[b] - sv[a];
@@ -121,6 +134,32 @@ export function estimateBaseline(y: ArrayLike<number>, options: EstimateBaseline
         out[i] = v0 / w0;
       }
     }
+    // Under the lines (and wherever the window held too little background), bridge straight across from the
+    // background on either side: a fit there would rest on a few samples at one end of the window.
+    if (anyMasked) bridgeMasked(out, masked);
   }
   return out;
+}
+
+/** Replaces each masked run by the straight line between its unmasked neighbours (the nearest one at an end). */
+function bridgeMasked(out: Float64Array, masked: Uint8Array): void {
+  const n = out.length;
+  for (let i = 0; i < n; ) {
+    if (!masked[i]) {
+      i++;
+      continue;
+    }
+    let j = i;
+    while (j < n && masked[j]) j++;
+    const left = i - 1;
+    const right = j;
+    if (left >= 0 && right < n) {
+      for (let k = i; k < j; k++) out[k] = out[left] + ((out[right] - out[left]) * (k - left)) / (right - left);
+    } else if (left >= 0) {
+      out.fill(out[left], i, j);
+    } else if (right < n) {
+      out.fill(out[right], i, j);
+    }
+    i = j;
+  }
 }

@@ -45,6 +45,13 @@ export interface FindPeaksOptions {
   minPositionUncertaintyPx?: number;
   /** Most lines fitted together in one window; longer chains of overlapping lines are split. @default 6 */
   maxGroupSize?: number;
+  /**
+   * Leave out one-sample spikes (hot pixels, cosmic rays): a peak whose two neighbours are both below 15 % of its
+   * height (a Gaussian that narrow has FWHM < 1.2 samples), at least 20σ high so the test is sure, in a spectrum
+   * whose fitted lines are typically ≥ 2 samples wide (so light through the optics cannot be that narrow). They are
+   * listed in `spikesPx` and a warning. @default true
+   */
+  rejectSpikes?: boolean;
 }
 
 export const FIND_PEAKS_DEFAULTS = {
@@ -56,6 +63,7 @@ export const FIND_PEAKS_DEFAULTS = {
   blendWidthRatio: 1.25,
   minPositionUncertaintyPx: 0.01,
   maxGroupSize: 6,
+  rejectSpikes: true,
 } as const satisfies Omit<Required<FindPeaksOptions>, 'noise'>;
 
 /** How one peak's numbers were obtained. */
@@ -86,6 +94,8 @@ export interface PeakSearch {
   baselineWindowSamples: number | 'none';
   /** The prominence and height threshold k·σ. */
   threshold: number;
+  /** Positions (px) of one-sample spikes left out of the table (see rejectSpikes). */
+  spikesPx: number[];
   warnings: string[];
 }
 
@@ -143,6 +153,7 @@ export function findPeaksDetailed(spectrum: Spectrum, options: FindPeaksOptions 
     baseline,
     baselineWindowSamples: 'none',
     threshold: o.thresholdSigma * noise,
+    spikesPx: [],
     warnings,
   });
   if (n < 5) {
@@ -186,6 +197,17 @@ export function findPeaksDetailed(spectrum: Spectrum, options: FindPeaksOptions 
 
   const saturated = saturationMask(spectrum, r, noise);
   fitAll(r, candidates, spectrum, saturated, noise, o);
+  const spikesPx: number[] = [];
+  if (o.rejectSpikes) {
+    const spikes = findSpikes(r, candidates, noise);
+    if (spikes.size > 0) {
+      for (const c of candidates) if (spikes.has(c)) spikesPx.push(valueAtSample(spectrum.positionPx, c.index));
+      candidates = candidates.filter((c) => !spikes.has(c));
+      warnings.push(
+        `${spikesPx.length} one-sample spike(s) left out as hot pixels or cosmic rays, at ${spikesPx.map((v) => v.toFixed(1)).join(', ')} px`,
+      );
+    }
+  }
 
   const peaks: Peak[] = [];
   const fits: PeakFitReport[] = [];
@@ -220,10 +242,10 @@ export function findPeaksDetailed(spectrum: Spectrum, options: FindPeaksOptions 
   if (spectrum.channels) addColours(peaks, candidates, spectrum.channels, windowSamples);
   const fallbacks = fits.filter((f) => f.method === 'three-point').length;
   if (fallbacks > 0) warnings.push(`${fallbacks} peak(s) could not be fitted; their three-point estimates are reported`);
-  return { peaks, fits, noise, baseline, baselineWindowSamples: windowSamples, threshold, warnings };
+  return { peaks, fits, noise, baseline, baselineWindowSamples: windowSamples, threshold, spikesPx, warnings };
 }
 
-type ResolvedOptions = typeof FIND_PEAKS_DEFAULTS & { baselineWindowSamples: number | 'auto' | 'none' } & Record<
+type ResolvedOptions = typeof FIND_PEAKS_DEFAULTS & { baselineWindowSamples: number | 'auto' | 'none'; rejectSpikes: boolean } & Record<
   'thresholdSigma' | 'fitWindowFwhm' | 'minSeparationSamples' | 'blendSeparationFwhm' | 'blendWidthRatio' | 'minPositionUncertaintyPx' | 'maxGroupSize',
   number
 >;
@@ -453,15 +475,33 @@ function fitAll(
 }
 
 /**
- * The three-point estimate, with an uncertainty of twice the Cramér–Rao bound for a Gaussian's centre in white noise,
- * σ_μ = √(2σ/√π) · noise / amplitude (σ in samples; from the Fisher information Σ(∂g/∂μ)² ≈ a²√π / (2σ)).
+ * The three-point estimate, with a deliberately wide uncertainty: the larger of twice the Cramér–Rao bound for a
+ * Gaussian's centre in white noise, σ_μ = √(2σ/√π) · noise / amplitude (σ in samples; from the Fisher information
+ * Σ(∂g/∂μ)² ≈ a²√π / (2σ)), and a tenth of the FWHM — a fit fails mostly beside a stronger line, whose wing shifts
+ * the three-point estimate by up to a few tenths of the FWHM.
  */
 function fallBack(c: Candidate, noise: number): void {
   c.fit = { amplitude: c.amplitude0, center: c.center0, sigma: c.sigma0 };
-  c.centerSd = 2 * Math.sqrt((2 * c.sigma0) / Math.sqrt(Math.PI)) * (noise / Math.max(c.amplitude0, noise));
+  const cramerRao = Math.sqrt((2 * c.sigma0) / Math.sqrt(Math.PI)) * (noise / Math.max(c.amplitude0, noise));
+  c.centerSd = Math.max(2 * cramerRao, 0.1 * FWHM_PER_SIGMA * c.sigma0);
   c.sigmaSd = NaN;
   c.method = 'three-point';
   c.reducedChi2 = NaN;
+}
+
+/** The candidates that are one-sample spikes (see FindPeaksOptions.rejectSpikes). */
+function findSpikes(r: Float64Array, cands: Candidate[], noise: number): Set<Candidate> {
+  const spikes = new Set<Candidate>();
+  const widths = cands.filter((c) => c.method === 'gaussian' && c.fit.amplitude >= 10 * noise).map((c) => FWHM_PER_SIGMA * c.fit.sigma);
+  if (widths.length < 3 || quantileInPlace(Float64Array.from(widths), 0.5) < 2) return spikes;
+  const n = r.length;
+  for (const c of cands) {
+    const p = c.index;
+    if (p < 1 || p > n - 2) continue;
+    const top = r[p];
+    if (top >= 20 * noise && r[p - 1] < 0.15 * top && r[p + 1] < 0.15 * top) spikes.add(c);
+  }
+  return spikes;
 }
 
 function markBlends(peaks: Peak[], cands: Candidate[], noise: number, o: ResolvedOptions): void {

@@ -188,7 +188,7 @@ export function fitGaussians(
     for (let c = 0; c < np; c++) line[c] = inverse ? inverse[a * np + c] * scale : NaN;
     covariance.push(line);
   }
-  const sd = (a: number): number => Math.sqrt(Math.max(0, covariance[a][a]));
+  const sd = (a: number): number => (covariance[a][a] >= 0 ? Math.sqrt(covariance[a][a]) : NaN);
   const components: GaussianComponent[] = [];
   const uncertainties: GaussianComponent[] = [];
   for (let j = 0; j < k; j++) {
@@ -240,18 +240,28 @@ function choleskyInPlace(a: Float64Array, n: number): boolean {
   return true;
 }
 
-/** Inverse of a symmetric positive-definite matrix (row-major n×n), or null when singular. */
+/**
+ * Inverse of a symmetric positive-semidefinite matrix (row-major n×n), or null when singular. Parameters the data do
+ * not constrain at all (a zero diagonal: e.g. the centre and width of a component whose amplitude sits at its bound
+ * 0) are left out and get NaN, so that they do not void the covariance of the others.
+ */
 function choleskyInverse(m: Float64Array, n: number): Float64Array | null {
-  const l = Float64Array.from(m);
-  if (!choleskyInPlace(l, n)) return null;
-  const inv = new Float64Array(n * n);
-  const e = new Float64Array(n);
-  const col = new Float64Array(n);
-  for (let c = 0; c < n; c++) {
+  let maxDiag = 0;
+  for (let a = 0; a < n; a++) maxDiag = Math.max(maxDiag, m[a * n + a]);
+  const free: number[] = [];
+  for (let a = 0; a < n; a++) if (m[a * n + a] > 1e-14 * maxDiag) free.push(a);
+  const k = free.length;
+  const l = new Float64Array(k * k);
+  for (let a = 0; a < k; a++) for (let c = 0; c < k; c++) l[a * k + c] = m[free[a] * n + free[c]];
+  if (k === 0 || !choleskyInPlace(l, k)) return null;
+  const inv = new Float64Array(n * n).fill(NaN);
+  const e = new Float64Array(k);
+  const col = new Float64Array(k);
+  for (let c = 0; c < k; c++) {
     e.fill(0);
     e[c] = 1;
-    choleskySolveFactored(l, e, col, n);
-    for (let r = 0; r < n; r++) inv[r * n + c] = col[r];
+    choleskySolveFactored(l, e, col, k);
+    for (let r = 0; r < k; r++) inv[free[r] * n + free[c]] = col[r];
   }
   return inv;
 }
