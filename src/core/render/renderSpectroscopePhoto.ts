@@ -21,7 +21,7 @@ import { dispersionAtPositionNmPerPx, focalLengthPxFrom35mm, positionAtWavelengt
 import type { GratingCameraModel } from './gratingCamera.js';
 import { kernelFwhmPx, lineSpreadKernel } from './lineSpread.js';
 import type { SpreadKernel } from './lineSpread.js';
-import { NoiseGenerator } from './noise.js';
+import { ambientFactor, exposeFrame } from './exposeFrame.js';
 import { checkSourceSpectrum, continuumDensity, continuumMarkNm } from './scene.js';
 import type { SourceSpectrum } from './scene.js';
 import { createSensorResponse, DEFAULT_SENSOR_RESPONSE } from './sensor.js';
@@ -176,7 +176,7 @@ export interface TruthContinuumMark {
 
 export interface RenderTruth {
   band: BandGeometry;
-  /** Every line of every drawn order that exists, brightest first within each order. */
+  /** Every line of every drawn dispersed order (not the zero order: see zeroOrder) that exists; order +1 first, brightest first. */
   lines: TruthLine[];
   /** Centres / heads of band-like continua in order +1. */
   continuumMarks: TruthContinuumMark[];
@@ -321,9 +321,9 @@ function sample1(grid: Float64Array, fi: number): number {
   return grid[i0] * (1 - t) + grid[i0 + 1] * t;
 }
 
-/** Truth lists order +1 first, then +2, 0, −1 and the rest. */
+/** Truth lists order +1 first, then +2, −1 and the rest. */
 function orderRank(order: number): number {
-  return order === 1 ? 0 : order === 2 ? 1 : order === 0 ? 2 : order === -1 ? 3 : 4 + Math.abs(order);
+  return order === 1 ? 0 : order === 2 ? 1 : order === -1 ? 2 : 3 + Math.abs(order);
 }
 
 function normalizeAngleDeg(a: number): number {
@@ -331,6 +331,170 @@ function normalizeAngleDeg(a: number): number {
   if (r <= -180) r += 360;
   if (r > 180) r -= 360;
   return r;
+}
+
+/** What drawStripe needs: the frame, the band's axes, and the 1-D profiles to spread over the stripe. */
+interface StripeInput {
+  widthPx: number;
+  heightPx: number;
+  /** Principal point. */
+  originX: number;
+  originY: number;
+  cosP: number;
+  sinP: number;
+  tanS: number;
+  offsetPx: number;
+  /** Half-height of the stripe drawn (px from the centre line). */
+  vMax: number;
+  /** Line images along u (interleaved RGB density per px, per unit exposure). */
+  core: { grid: Float64Array; n: number; start: number; step: number };
+  /** Profile across the band (density per px). */
+  vProfile: { grid: Float64Array; start: number; step: number };
+  /** Stray-light glow along p on a 1-px grid (cell i centred at start + i), spread as N(0, σ) across. */
+  stray: { grid: Float64Array; n: number; start: number; sigmaPx: number } | null;
+  /** Electrons per unit intensity. */
+  scale: number;
+}
+
+/** Adds the band's expected electrons to `mean` over the stripe |v| ≤ vMax. */
+function drawStripe(mean: Float32Array, s: StripeInput): void {
+  const W = s.widthPx;
+  const { cosP, sinP, tanS, offsetPx: q0, vMax } = s;
+  const core = s.core.grid;
+  const nCore = s.core.n;
+  const invCoreStep = 1 / s.core.step;
+  const vGrid = s.vProfile.grid;
+  const vCoreMax = -s.vProfile.start;
+  const invVStep = 1 / s.vProfile.step;
+  const stray = s.stray;
+  const strayGrid = stray?.grid ?? new Float64Array(0);
+  const strayN = stray?.n ?? 0;
+  const strayNorm = stray ? 1 / (stray.sigmaPx * Math.sqrt(2 * Math.PI)) : 0;
+  const strayK = stray ? -0.5 / (stray.sigmaPx * stray.sigmaPx) : 0;
+  for (let y = 0; y < s.heightPx; y++) {
+    const dy = y - s.originY;
+    // x range where |v| ≤ vMax, v = −dx·sinφ + dy·cosφ − q0.
+    let xLo = 0;
+    let xHi = W - 1;
+    if (Math.abs(sinP) > 1e-12) {
+      const a = (dy * cosP - q0 - vMax) / sinP;
+      const b = (dy * cosP - q0 + vMax) / sinP;
+      xLo = Math.max(0, Math.floor(Math.min(a, b) + s.originX));
+      xHi = Math.min(W - 1, Math.ceil(Math.max(a, b) + s.originX));
+    } else if (Math.abs(dy * cosP - q0) > vMax) {
+      continue;
+    }
+    for (let x = xLo; x <= xHi; x++) {
+      const dx = x - s.originX;
+      const v = -dx * sinP + dy * cosP - q0;
+      if (Math.abs(v) > vMax) continue;
+      const p = dx * cosP + dy * sinP;
+      const a = 3 * (y * W + x);
+      if (Math.abs(v) < vCoreMax) {
+        const vf = (v + vCoreMax) * invVStep;
+        const vi = Math.floor(vf);
+        const vd = (vGrid[vi] * (1 - (vf - vi)) + (vGrid[vi + 1] ?? 0) * (vf - vi)) * s.scale;
+        if (vd > 0) {
+          const f = (p + v * tanS - s.core.start) * invCoreStep;
+          const i0 = Math.floor(f);
+          if (i0 >= 0 && i0 + 1 < nCore) {
+            const t = f - i0;
+            const j = 3 * i0;
+            mean[a] += (core[j] * (1 - t) + core[j + 3] * t) * vd;
+            mean[a + 1] += (core[j + 1] * (1 - t) + core[j + 4] * t) * vd;
+            mean[a + 2] += (core[j + 2] * (1 - t) + core[j + 5] * t) * vd;
+          }
+        }
+      }
+      if (stray) {
+        const f = p - stray.start;
+        const i0 = Math.floor(f);
+        if (i0 >= 0 && i0 + 1 < strayN) {
+          const sv = strayNorm * Math.exp(strayK * v * v) * s.scale;
+          const t = f - i0;
+          const j = 3 * i0;
+          mean[a] += (strayGrid[j] * (1 - t) + strayGrid[j + 3] * t) * sv;
+          mean[a + 1] += (strayGrid[j + 1] * (1 - t) + strayGrid[j + 4] * t) * sv;
+          mean[a + 2] += (strayGrid[j + 2] * (1 - t) + strayGrid[j + 5] * t) * sv;
+        }
+      }
+    }
+  }
+}
+
+/** Continua times the sensor response, per channel, on a uniform wavelength grid (photons per cell). */
+interface SampledContinuum {
+  startNm: number;
+  stepNm: number;
+  /** Interleaved R, G, B per wavelength cell (relative photoelectrons in the cell). */
+  rgb: Float64Array;
+  count: number;
+}
+
+/**
+ * Samples the continua once for all orders, with a step small enough that no order moves more than half a grid cell
+ * per step (the smallest |dλ/dx| over the orders drawn, at the range's ends and centre).
+ */
+function sampleContinuum(
+  source: SourceSpectrum,
+  response: (l: number) => Rgb,
+  [lo, hi]: [number, number],
+  model: GratingCameraModel,
+  orders: DiffractionOrder[],
+  h: number,
+): SampledContinuum | null {
+  const densities = (source.continua ?? []).map(continuumDensity);
+  if (densities.length === 0) return null;
+  let stepNm = 0.25;
+  for (const { order, efficiency } of orders) {
+    if (order === 0 || efficiency === 0) continue;
+    for (const l of [lo, (lo + hi) / 2, hi]) {
+      const p = positionAtWavelengthPx(model, l, order);
+      if (p === null) continue;
+      stepNm = Math.min(stepNm, Math.max(1e-3, 0.5 * h * Math.abs(dispersionAtPositionNmPerPx(model, p, order))));
+    }
+  }
+  const count = Math.ceil((hi - lo) / stepNm);
+  stepNm = (hi - lo) / count;
+  const rgb = new Float64Array(3 * count);
+  for (let i = 0; i < count; i++) {
+    const l = lo + (i + 0.5) * stepNm;
+    let sum = 0;
+    for (const d of densities) sum += d(l);
+    if (sum === 0) continue;
+    const r = response(l);
+    rgb[3 * i] = sum * stepNm * r.r;
+    rgb[3 * i + 1] = sum * stepNm * r.g;
+    rgb[3 * i + 2] = sum * stepNm * r.b;
+  }
+  return { startNm: lo, stepNm, rgb, count };
+}
+
+/** Deposits a sampled continuum in one order: x = f·tan(θm − θc), sin θm = mλ/d − sin θi (inlined for speed). */
+function depositContinuum(
+  grid: Float64Array,
+  n: number,
+  gridStart: number,
+  h: number,
+  c: SampledContinuum,
+  model: GratingCameraModel,
+  order: number,
+  efficiency: number,
+): void {
+  const d = 1e6 / model.linesPerMm;
+  const sinI = Math.sin(model.incidenceDeg * DEG);
+  const thetaC = model.cameraAngleDeg * DEG;
+  const limit = 89 * DEG;
+  for (let i = 0; i < c.count; i++) {
+    const l = c.startNm + (i + 0.5) * c.stepNm;
+    const s = (order * l) / d - sinI;
+    if (Math.abs(s) > 1) continue;
+    const off = Math.asin(s) - thetaC;
+    if (Math.abs(off) >= limit) continue;
+    const p = model.principalPositionPx + model.focalLengthPx * Math.tan(off);
+    const a = 3 * i;
+    deposit(grid, n, (p - gridStart) / h, c.rgb[a] * efficiency, c.rgb[a + 1] * efficiency, c.rgb[a + 2] * efficiency);
+  }
 }
 
 /** Renders a grating-spectroscope photo and its ground truth. Deterministic for a given seed. */
@@ -416,8 +580,7 @@ export function renderSpectroscopePhoto(input: RenderOptionsInput = {}): Rendere
   const toIndex = (p: number): number => (p - gridStart) / h;
 
   const response = createSensorResponse(o.sensor.response);
-  const densities = (o.source.continua ?? []).map(continuumDensity);
-  const [specLo, specHi] = o.spectralRangeNm;
+  const continuum = sampleContinuum(o.source, response, o.spectralRangeNm, axisModel, o.grating.orders, h);
 
   interface PlacedLine {
     line: SourceSpectrum['lines'][number];
@@ -441,28 +604,7 @@ export function renderSpectroscopePhoto(input: RenderOptionsInput = {}): Rendere
       placed.push({ line, order, p, amp });
       deposit(raw, n, toIndex(p), amp.r, amp.g, amp.b);
     }
-    if (densities.length === 0 || efficiency === 0) continue;
-    // Continua: midpoint rule in λ with steps of at most half a grid cell along the axis.
-    let l = specLo;
-    while (l < specHi) {
-      const pA = positionAtWavelengthPx(axisModel, l, order);
-      let dl = 0.25;
-      if (order !== 0 && pA !== null) {
-        const disp = Math.abs(dispersionAtPositionNmPerPx(axisModel, pA, order));
-        dl = Math.min(0.25, Math.max(1e-3, 0.5 * h * disp));
-      }
-      dl = Math.min(dl, specHi - l);
-      const mid = l + dl / 2;
-      l += dl;
-      const p = positionAtWavelengthPx(axisModel, mid, order);
-      if (p === null) continue;
-      let s = 0;
-      for (const dens of densities) s += dens(mid);
-      if (s === 0) continue;
-      const rgb = response(mid);
-      const k = s * dl * efficiency;
-      deposit(raw, n, toIndex(p), k * rgb.r, k * rgb.g, k * rgb.b);
-    }
+    if (continuum && efficiency > 0) depositContinuum(raw, n, gridStart, h, continuum, axisModel, order, efficiency);
   }
 
   // Core profile (density per px along u, per unit exposure) and stray-light profile on a 1-px grid.
@@ -506,50 +648,24 @@ export function renderSpectroscopePhoto(input: RenderOptionsInput = {}): Rendere
   // Expected electrons from the source (the stripe around the band); the ambient term is added with the noise.
   const mean = new Float32Array(W * H * 3);
   const amb = o.ambient;
-  const cx = (W - 1) / 2;
-  const cy = (H - 1) / 2;
-  const rMax2 = cx * cx + cy * cy;
-  const ambientFactor = (x: number, y: number): number =>
-    Math.max(0, 1 + (amb.gradient.x * (x - cx)) / W + (amb.gradient.y * (y - cy)) / H) *
-    (1 - (amb.vignetting * ((x - cx) ** 2 + (y - cy) ** 2)) / rMax2);
+  const ambientAt = (x: number, y: number): number =>
+    ambientFactor({ widthPx: W, heightPx: H, ambient: amb, fullWellElectrons: 1, readNoiseElectrons: 0, noise: false, seed: 0 }, x, y);
   const e = electronsPerIntensity;
-  for (let y = 0; y < H; y++) {
-    const dy = y - pp.y;
-    // x range where |v| ≤ vMax, v = −dx·sinφ + dy·cosφ − q0.
-    let xLo = 0;
-    let xHi = W - 1;
-    if (Math.abs(sinP) > 1e-12) {
-      const a = (dy * cosP - q0 - vMax) / sinP;
-      const b = (dy * cosP - q0 + vMax) / sinP;
-      xLo = Math.max(0, Math.floor(Math.min(a, b) + pp.x));
-      xHi = Math.min(W - 1, Math.ceil(Math.max(a, b) + pp.x));
-    } else if (Math.abs(dy * cosP - q0) > vMax) {
-      continue;
-    }
-    for (let x = xLo; x <= xHi; x++) {
-      const dx = x - pp.x;
-      const v = -dx * sinP + dy * cosP - q0;
-      if (Math.abs(v) > vMax) continue;
-      const p = dx * cosP + dy * sinP;
-      const a = 3 * (y * W + x);
-      if (Math.abs(v) < vCoreMax) {
-        const vd = sample1(vDensity, (v - vStart) / h) * e;
-        if (vd > 0) {
-          const fi = toIndex(p + v * tanS);
-          mean[a] += sample3(core, n, fi, 0) * vd;
-          mean[a + 1] += sample3(core, n, fi, 1) * vd;
-          mean[a + 2] += sample3(core, n, fi, 2) * vd;
-        }
-      }
-      if (stray > 0) {
-        const sv = strayV(v) * e;
-        const si = strayIndex(p);
-        mean[a] += sample3(strayGrid, strayN, si, 0) * sv;
-        mean[a + 1] += sample3(strayGrid, strayN, si, 1) * sv;
-        mean[a + 2] += sample3(strayGrid, strayN, si, 2) * sv;
-      }
-    }
-  }
+  drawStripe(mean, {
+    widthPx: W,
+    heightPx: H,
+    originX: pp.x,
+    originY: pp.y,
+    cosP,
+    sinP,
+    tanS,
+    offsetPx: q0,
+    vMax,
+    core: { grid: core, n, start: gridStart, step: h },
+    vProfile: { grid: vDensity, start: vStart, step: h },
+    stray: stray > 0 ? { grid: strayGrid, n: strayN, start: strayStart + 0.5 - h / 2, sigmaPx: straySigma } : null,
+    scale: e,
+  });
 
   // Ground truth, from the expected signal.
   const fullWell = o.sensor.fullWellElectrons;
@@ -558,13 +674,14 @@ export function renderSpectroscopePhoto(input: RenderOptionsInput = {}): Rendere
   const inFrame = (pt: PointPx): boolean => pt.x >= -0.5 && pt.x <= W - 0.5 && pt.y >= -0.5 && pt.y <= H - 0.5;
   const expectedAt = (p: number, c: number): number => {
     const pt = imageAt(p);
-    const ambient = [amb.electrons.r, amb.electrons.g, amb.electrons.b][c] * ambientFactor(pt.x, pt.y);
+    const ambient = [amb.electrons.r, amb.electrons.g, amb.electrons.b][c] * ambientAt(pt.x, pt.y);
     const strayPart = stray > 0 ? sample3(strayGrid, strayN, strayIndex(p), c) * strayV(0) * e : 0;
     return sample3(core, n, toIndex(p), c) * vPeak * e + strayPart + ambient;
   };
   const saturatedAt = (p: number): boolean => [0, 1, 2].some((c) => expectedAt(p, c) >= fullWell);
   const peakScale = ((kernelU.weights[kernelU.half] / h) * vPeak * e * (1 - stray));
   const lines: TruthLine[] = placed
+    .filter(({ order }) => order !== 0)
     .map(({ line, order, p, amp }) => {
       const pt = imageAt(p);
       const peakRgb = { r: amp.r * peakScale, g: amp.g * peakScale, b: amp.b * peakScale };
@@ -598,39 +715,18 @@ export function renderSpectroscopePhoto(input: RenderOptionsInput = {}): Rendere
       ? { positionPx: zeroP - pLo, imagePx: imageAt(zeroP), inFrame: inFrame(imageAt(zeroP)), saturated: inFrame(imageAt(zeroP)) && saturatedAt(zeroP) }
       : null;
 
-  // Ambient light, noise and clipping.
-  const data = mean; // overwritten in place: expected electrons → relative linear light
-  const saturated = new Uint8Array(W * H);
-  const noise = new NoiseGenerator(o.seed);
+  // Ambient light, noise and clipping (in place: expected electrons → relative linear light).
+  const saturated = exposeFrame(mean, {
+    widthPx: W,
+    heightPx: H,
+    ambient: amb,
+    fullWellElectrons: fullWell,
+    readNoiseElectrons: o.sensor.readNoiseElectrons,
+    noise: o.sensor.noise,
+    seed: o.seed,
+  });
+  const data = mean;
   const read = o.sensor.readNoiseElectrons;
-  const noisy = o.sensor.noise;
-  const ambR = amb.electrons.r;
-  const ambG = amb.electrons.g;
-  const ambB = amb.electrons.b;
-  const gradX = amb.gradient.x / W;
-  const gradY = amb.gradient.y / H;
-  const vig = amb.vignetting / rMax2;
-  const invFull = 1 / fullWell;
-  const expose = (m: number): number => {
-    const v = noisy ? noise.poisson(m) + (read > 0 ? read * noise.normal() : 0) : m;
-    return v >= fullWell ? fullWell : v < 0 ? 0 : v;
-  };
-  for (let y = 0; y < H; y++) {
-    const rowLinear = 1 + gradY * (y - cy);
-    const rowR2 = (y - cy) * (y - cy);
-    for (let x = 0; x < W; x++) {
-      const f = Math.max(0, rowLinear + gradX * (x - cx)) * (1 - vig * ((x - cx) * (x - cx) + rowR2));
-      const i = y * W + x;
-      const a = 3 * i;
-      const r = expose(mean[a] + ambR * f);
-      const g = expose(mean[a + 1] + ambG * f);
-      const b = expose(mean[a + 2] + ambB * f);
-      if (r === fullWell || g === fullWell || b === fullWell) saturated[i] = 1;
-      data[a] = r * invFull;
-      data[a + 1] = g * invFull;
-      data[a + 2] = b * invFull;
-    }
-  }
 
   const pMid = (pLo + pHi) / 2;
   const center = imageAt(pMid);

@@ -40,29 +40,79 @@ describe('NoiseGenerator#poisson(mean)', () => {
     }
   });
 
-  it('follows the Poisson probabilities (χ² test at mean 30, where the normal approximation would fail)', () => {
-    const mean = 30;
+  // χ² over up to 41 bins (≤ 40 degrees of freedom): the 99.9 % point for 40 is 73.4 (NIST/SEMATECH e-Handbook of
+  // Statistical Methods, table 1.3.6.7.4; from memory). A rounded normal approximation scores ~2300 at mean 30.
+  function chi2(mean: number, lo: number, seed: number): number {
     const n = 400_000;
-    const g = new NoiseGenerator(11);
+    const g = new NoiseGenerator(seed);
     const counts = new Map<number, number>();
     for (let i = 0; i < n; i++) {
       const k = g.poisson(mean);
       counts.set(k, (counts.get(k) ?? 0) + 1);
     }
-    let chi2 = 0;
-    let dof = -1;
-    for (let k = 12; k <= 52; k++) {
+    let sum = 0;
+    for (let k = lo; k <= lo + 40; k++) {
       const want = n * poissonPmf(mean, k);
-      chi2 += ((counts.get(k) ?? 0) - want) ** 2 / want;
-      dof++;
+      if (want < 5) continue; // bins too thin for χ² are skipped (fewer degrees of freedom: the test gets stricter)
+      sum += ((counts.get(k) ?? 0) - want) ** 2 / want;
     }
-    // 40 degrees of freedom: the 99.9 % point of χ² is 73.4 (standard χ² table).
-    expect(chi2).toBeLessThanOrEqual(73.4);
+    return sum;
+  }
+
+  it('follows the Poisson probabilities: χ² tests at means 30 (PTRS), 3.3 and 7.77 (tables + remainder)', () => {
+    expect(chi2(30, 12, 11)).toBeLessThanOrEqual(73.4);
+    expect(chi2(3.3, 0, 12)).toBeLessThanOrEqual(73.4);
+    expect(chi2(7.77, 0, 13)).toBeLessThanOrEqual(73.4);
+  });
+
+  it('gives P(0) = e^−μ and P(1) = μe^−μ at μ = 0.02, below the first table step', () => {
+    const n = 1_000_000;
+    const g = new NoiseGenerator(14);
+    const counts = [0, 0, 0];
+    for (let i = 0; i < n; i++) counts[Math.min(2, g.poisson(0.02))]++;
+    for (const k of [0, 1]) {
+      const p = poissonPmf(0.02, k);
+      expect(Math.abs(counts[k] / n - p)).toBeLessThanOrEqual(5 * Math.sqrt((p * (1 - p)) / n));
+    }
   });
 
   it('repeats its sequence for a seed', () => {
+    const c = new NoiseGenerator(42);
+    const d = new NoiseGenerator(43);
+    let same = 0;
+    for (let i = 0; i < 100; i++) if (c.poisson(25) === d.poisson(25)) same++;
+    expect(same).toBeLessThan(30);
     const a = new NoiseGenerator(42);
     const b = new NoiseGenerator(42);
     for (let i = 0; i < 100; i++) expect(a.poisson(25)).toBe(b.poisson(25));
+  });
+});
+
+describe('NoiseGenerator#normal()', () => {
+  it('has mean 0, variance 1 and the normal tail fractions beyond 1, 3 and the ziggurat base r = 3.4426', () => {
+    // Two-sided tails erfc(z/√2) from CPython math.erfc (C): 0.31731050786291415, 0.0026997960632601913,
+    // 0.0005761085123916405.
+    const n = 2_000_000;
+    const g = new NoiseGenerator(5);
+    let s = 0;
+    let s2 = 0;
+    let t1 = 0;
+    let t3 = 0;
+    let tr = 0;
+    for (let i = 0; i < n; i++) {
+      const x = g.normal();
+      s += x;
+      s2 += x * x;
+      const a = Math.abs(x);
+      if (a > 1) t1++;
+      if (a > 3) t3++;
+      if (a > 3.442619855899) tr++;
+    }
+    const mean = s / n;
+    expect(Math.abs(mean)).toBeLessThanOrEqual(5 / Math.sqrt(n));
+    expect(Math.abs(s2 / n - mean * mean - 1)).toBeLessThanOrEqual(5 * Math.sqrt(2 / n));
+    for (const [count, p] of [[t1, 0.31731050786291415], [t3, 0.0026997960632601913], [tr, 0.0005761085123916405]]) {
+      expect(Math.abs(count / n - p)).toBeLessThanOrEqual(5 * Math.sqrt((p * (1 - p)) / n));
+    }
   });
 });
