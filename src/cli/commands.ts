@@ -1,9 +1,11 @@
 import type { Command } from 'commander';
 import { registerServe } from './serve.js';
 import { registerGrating } from './grating.js';
+import { registerPolarization } from './polarization.js';
 
 /** Every CLI command registers itself here; one file per command in this folder. */
 export const commands: Array<(program: Command) => void> = [
   registerServe,
   registerGrating,
+  registerPolarization,
 ];

@@ -1,6 +1,6 @@
 import { assertFinite, invalid } from '../errors.js';
 import { createRandom } from '../random.js';
-import { srgbEncode } from '../units/srgb.js';
+import { srgbDecode } from '../units/srgb.js';
 import { toRad } from './angles.js';
 import { withDefaults } from './options.js';
 
@@ -134,11 +134,34 @@ export function renderSpotSeries(scene: SpotSeriesScene): RenderedFrame[] {
         for (let c = 0; c < 3; c++) {
           const mean = s.peakLinear * signal * SPOT_RGB[c] * profile[i] + s.ambientLinear * exposure * gradient * AMBIENT_RGB[c];
           const value = mean + Math.sqrt(Math.max(mean, 0) / s.shotScale) * rnd.normal() + s.readNoise * rnd.normal();
-          const clipped = Math.min(1, Math.max(0, value));
-          rgb[i * 3 + c] = Math.round(255 * srgbEncode(clipped));
+          rgb[i * 3 + c] = encode8(value);
         }
       }
     }
     return { angleDeg, widthPx: w, heightPx: h, rgb, relativeSignal: signal };
   });
 }
+
+/**
+ * Linear light → 8-bit sRGB code, round(255 · encode(L)) clipped to 0…255, by binary search over the exact decision
+ * levels decode((c − ½)/255) (the same result as the formula, without a power per sample).
+ */
+function encode8(linear: number): number {
+  if (!(linear > LEVELS[1])) return 0;
+  if (linear >= LEVELS[255]) return 255;
+  let lo = 1;
+  let hi = 255;
+  while (hi - lo > 1) {
+    const mid = (lo + hi) >> 1;
+    if (linear >= LEVELS[mid]) lo = mid;
+    else hi = mid;
+  }
+  return lo;
+}
+
+/** LEVELS[c] = the linear value from which the code is c: decode((c − ½)/255). */
+const LEVELS: Float64Array = (() => {
+  const t = new Float64Array(256);
+  for (let c = 1; c < 256; c++) t[c] = srgbDecode((c - 0.5) / 255);
+  return t;
+})();

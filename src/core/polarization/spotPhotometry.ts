@@ -329,7 +329,14 @@ function relativeExposures(
   return scale.map((s) => s / scale[0]);
 }
 
-/** The brightest compact blob of the summed series and an aperture radius from its radial profile. */
+/** Pixel count of the binned summed frame the spot search works on (a 12-MP series is searched at ~0.75 MP). */
+const SEARCH_PIXELS = 1_000_000;
+
+/**
+ * The brightest compact blob of the summed series and an aperture radius from its radial profile. The search runs on
+ * the sum of all frames binned to at most SEARCH_PIXELS (so a phone-sized series costs one pass over its pixels);
+ * the centroid and the profile are then measured at full resolution around the spot.
+ */
 function findSpot(
   readers: PixelReader[],
   width: number,
@@ -337,31 +344,44 @@ function findSpot(
   edgeFraction: number,
   margin: number,
 ): { center: PointPx; radiusPx: number; warnings: string[] } {
-  const n = width * height;
-  const sum = new Float64Array(n);
-  for (const px of readers) for (let i = 0; i < n; i++) sum[i] += px.grey(i);
-  // Background level and noise of the summed frame from a sparse sample.
-  const stride = Math.max(1, Math.floor(n / 20000));
+  const bin = Math.max(1, Math.ceil(Math.sqrt((width * height) / SEARCH_PIXELS)));
+  const bw = Math.ceil(width / bin);
+  const bh = Math.ceil(height / bin);
+  const nb = bw * bh;
+  const binned = new Float64Array(nb);
+  const counts = new Float64Array(nb);
+  for (let y = 0; y < height; y++) {
+    const row = Math.floor(y / bin) * bw;
+    for (let x = 0; x < width; x++) counts[row + Math.floor(x / bin)]++;
+  }
+  for (const px of readers) {
+    for (let y = 0, i = 0; y < height; y++) {
+      const row = Math.floor(y / bin) * bw;
+      for (let x = 0; x < width; x++, i++) binned[row + Math.floor(x / bin)] += px.grey(i);
+    }
+  }
+  for (let k = 0; k < nb; k++) binned[k] /= counts[k];
+  // Background level and noise of the binned sum from a sparse sample.
+  const stride = Math.max(1, Math.floor(nb / 20000));
   const sample: number[] = [];
-  for (let i = 0; i < n; i += stride) sample.push(sum[i]);
+  for (let i = 0; i < nb; i += stride) sample.push(binned[i]);
   const bg = median(sample);
   const noise = Math.max(robustSigma(sample), 1e-9 * Math.max(1, Math.abs(bg)));
-  // Box-smooth at a scale of ~1/100 of the frame so that a single hot pixel does not win over the spot.
-  const r = Math.max(1, Math.round(Math.min(width, height) / 100));
-  const smooth = boxBlur(sum, width, height, r);
+  // Box-smooth at ~1/100 of the frame so that a hot pixel or a speckle grain does not win over the spot.
+  const r = Math.max(1, Math.round(Math.min(bw, bh) / 100));
+  const smooth = boxBlur(binned, bw, bh, r);
   let best = 0;
-  for (let i = 1; i < n; i++) if (smooth[i] > smooth[best]) best = i;
+  for (let i = 1; i < nb; i++) if (smooth[i] > smooth[best]) best = i;
   const peak = smooth[best] - bg;
-  const smoothNoise = noise / (2 * r + 1);
-  if (!(peak > 10 * smoothNoise) || !(peak > 0)) {
+  if (!(peak > 10 * (noise / (2 * r + 1))) || !(peak > 0)) {
     throw new InputError(
       'photo series: no spot found (nothing stands out from the background); give the spot position with --roi x,y,r',
       'images',
     );
   }
-  // Grow the half-maximum region from the peak (4-connected) for the centroid and the compactness check.
+  // Grow the half-maximum region from the peak (4-connected) for a first centre and the compactness check.
   const half = bg + 0.5 * peak;
-  const seen = new Uint8Array(n);
+  const seen = new Uint8Array(nb);
   const stack = [best];
   seen[best] = 1;
   let area = 0;
@@ -371,19 +391,19 @@ function findSpot(
   let touches = false;
   while (stack.length) {
     const i = stack.pop()!;
-    const x = i % width;
-    const y = (i - x) / width;
+    const x = i % bw;
+    const y = (i - x) / bw;
     area++;
-    const w = sum[i] - bg;
+    const w = binned[i] - bg;
     if (w > 0) {
       sx += w * x;
       sy += w * y;
       sw += w;
     }
-    if (x === 0 || y === 0 || x === width - 1 || y === height - 1) touches = true;
-    for (const j of [i - 1, i + 1, i - width, i + width]) {
-      if (j < 0 || j >= n || seen[j]) continue;
-      if ((j === i - 1 && x === 0) || (j === i + 1 && x === width - 1)) continue;
+    if (x === 0 || y === 0 || x === bw - 1 || y === bh - 1) touches = true;
+    for (const j of [i - 1, i + 1, i - bw, i + bw]) {
+      if (j < 0 || j >= nb || seen[j]) continue;
+      if ((j === i - 1 && x === 0) || (j === i + 1 && x === bw - 1)) continue;
       if (smooth[j] >= half) {
         seen[j] = 1;
         stack.push(j);
@@ -391,41 +411,78 @@ function findSpot(
     }
   }
   const warnings: string[] = [];
-  if (touches || area > 0.05 * n) {
+  if (touches || area > 0.05 * nb) {
     warnings.push(
       'the brightest region is not a compact spot (it is large or touches the frame edge): check the photos, or give the spot with --roi x,y,r',
     );
   }
-  const center = sw > 0 ? { x: sx / sw, y: sy / sw } : { x: best % width, y: Math.floor(best / width) };
-  // Radial profile of the summed frame (1-px rings, mean above background) out to where it falls to edgeFraction.
-  const rHalf = Math.sqrt(area / Math.PI);
+  const coarse = sw > 0 ? { x: (sx / sw + 0.5) * bin - 0.5, y: (sy / sw + 0.5) * bin - 0.5 } : { x: (best % bw) * bin, y: Math.floor(best / bw) * bin };
+  const rHalf = Math.max(1, Math.sqrt(area / Math.PI) * bin);
   const rMax = Math.min(Math.max(10, 12 * rHalf), Math.max(width, height));
-  const bins = Math.ceil(rMax) + 1;
-  const ringSum = new Float64Array(bins);
-  const ringCount = new Float64Array(bins);
-  const xa = Math.max(0, Math.floor(center.x - rMax));
-  const xb = Math.min(width - 1, Math.ceil(center.x + rMax));
-  const ya = Math.max(0, Math.floor(center.y - rMax));
-  const yb = Math.min(height - 1, Math.ceil(center.y + rMax));
-  for (let y = ya; y <= yb; y++) {
-    for (let x = xa; x <= xb; x++) {
-      const k = Math.floor(Math.hypot(x - center.x, y - center.y));
-      if (k >= bins) continue;
-      ringSum[k] += sum[y * width + x] - bg;
-      ringCount[k]++;
-    }
+  // Full-resolution sum of the frames in a window around the spot.
+  const xa = Math.max(0, Math.floor(coarse.x - rMax));
+  const xb = Math.min(width - 1, Math.ceil(coarse.x + rMax));
+  const ya = Math.max(0, Math.floor(coarse.y - rMax));
+  const yb = Math.min(height - 1, Math.ceil(coarse.y + rMax));
+  const ww = xb - xa + 1;
+  const win = new Float64Array(ww * (yb - ya + 1));
+  for (const px of readers) {
+    for (let y = ya; y <= yb; y++) for (let x = xa; x <= xb; x++) win[(y - ya) * ww + (x - xa)] += px.grey(y * width + x);
   }
-  const ring = (k: number): number => (ringCount[k] > 0 ? ringSum[k] / ringCount[k] : 0);
+  const at = (x: number, y: number): number => win[(y - ya) * ww + (x - xa)];
+  // Rings of 1 px about a centre; the local background is the median ring mean of the outer third (beyond the halo).
+  const profile = (c: PointPx): { ring: (k: number) => number; bins: number; local: number } => {
+    const bins = Math.ceil(rMax) + 1;
+    const ringSum = new Float64Array(bins);
+    const ringCount = new Float64Array(bins);
+    for (let y = ya; y <= yb; y++) {
+      for (let x = xa; x <= xb; x++) {
+        const k = Math.floor(Math.hypot(x - c.x, y - c.y));
+        if (k >= bins) continue;
+        ringSum[k] += at(x, y);
+        ringCount[k]++;
+      }
+    }
+    const means: number[] = [];
+    for (let k = Math.floor((2 * bins) / 3); k < bins; k++) if (ringCount[k] > 0) means.push(ringSum[k] / ringCount[k]);
+    const local = means.length ? median(means) : bg * readers.length;
+    return { ring: (k) => (ringCount[k] > 0 ? ringSum[k] / ringCount[k] - local : 0), bins, local };
+  };
+  // Refine the centre: intensity-weighted centroid above the local background within 2 r_half, twice.
+  let center = coarse;
+  let local = profile(center).local;
+  for (let pass = 0; pass < 2; pass++) {
+    let cx = 0;
+    let cy = 0;
+    let cw = 0;
+    const rr = 2 * rHalf;
+    for (let y = Math.max(ya, Math.floor(center.y - rr)); y <= Math.min(yb, Math.ceil(center.y + rr)); y++) {
+      for (let x = Math.max(xa, Math.floor(center.x - rr)); x <= Math.min(xb, Math.ceil(center.x + rr)); x++) {
+        if (Math.hypot(x - center.x, y - center.y) > rr) continue;
+        const w = at(x, y) - local;
+        if (w > 0) {
+          cx += w * x;
+          cy += w * y;
+          cw += w;
+        }
+      }
+    }
+    if (cw > 0) center = { x: cx / cw, y: cy / cw };
+    local = profile(center).local;
+  }
+  const prof = profile(center);
   let top = 0;
-  for (let k = 0; k < Math.max(2, Math.ceil(rHalf)) && k < bins; k++) top = Math.max(top, ring(k));
-  let edge = bins - 1;
-  for (let k = 1; k < bins; k++) {
-    if (ring(k) <= edgeFraction * top) {
+  for (let k = 0; k < Math.max(2, Math.ceil(rHalf)) && k < prof.bins; k++) top = Math.max(top, prof.ring(k));
+  let edge = prof.bins - 1;
+  for (let k = 1; k < prof.bins; k++) {
+    if (prof.ring(k) <= edgeFraction * top) {
       edge = k;
       break;
     }
   }
-  if (edge === bins - 1) warnings.push('the spot has no clear edge (a wide halo): the aperture may not hold all of its light; consider --roi');
+  if (edge >= Math.floor((2 * prof.bins) / 3)) {
+    warnings.push('the spot has no clear edge (a wide halo): the aperture may not hold all of its light; consider --roi');
+  }
   return { center, radiusPx: Math.max(3, edge * margin), warnings };
 }
 

@@ -73,7 +73,7 @@ export function fSurvival2(f: number, nu: number): number {
 
 /** The median (mean of the middle two for an even count); NaN for no values. */
 export function median(values: ArrayLike<number>): number {
-  const a = Array.from(values).sort((x, y) => x - y);
+  const a = Float64Array.from(values).sort();
   const n = a.length;
   if (n === 0) return NaN;
   return n % 2 ? a[(n - 1) / 2] : 0.5 * (a[n / 2 - 1] + a[n / 2]);
@@ -82,7 +82,7 @@ export function median(values: ArrayLike<number>): number {
 /** Median absolute deviation scaled by 1.4826: a robust standard deviation for normal data. */
 export function robustSigma(values: ArrayLike<number>): number {
   const m = median(values);
-  const dev = Array.from(values, (v) => Math.abs(v - m));
+  const dev = Float64Array.from(values, (v) => Math.abs(v - m));
   return 1.4826 * median(dev);
 }
 

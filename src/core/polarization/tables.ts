@@ -14,6 +14,23 @@ const INTENSITY = /^(intensity|i|power|power_\w+|signal|counts|reading|value|irr
 const UNCERTAINTY = /^(uncertainty|uncertainty_\w+|sigma|sigma_\w+|u|err|error|std|stdev|sd)$/i;
 const TIME = /^(time|time_s|t|t_s|seconds|s)$/i;
 
+/**
+ * parseNumericCsv starts the data at the first two consecutive numeric rows and keeps what precedes them as
+ * metadata (or takes the row just before them for a header); a reading such as "0,NaN" near the top would vanish
+ * there. A metadata line or header that starts like a reading (a number, then a delimiter) is therefore refused, quoted.
+ */
+function refuseHiddenRows(table: NumericTable, source: string, expected: string): void {
+  // A header row whose first cell is a number is a reading the reader could not parse ("0,NaN" before the data).
+  if (table.header && /^[+-]?(\d|\.\d)/.test(table.header[0] ?? '')) {
+    throw new InputError(`${source}: the row ${JSON.stringify(table.header.join(',').slice(0, 60))} is not all numbers; expected ${expected}`, source);
+  }
+  for (const line of table.metadata) {
+    if (/^\s*[+-]?(\d|\.\d)[^,;\t ]*\s*[,;\t ]/.test(line)) {
+      throw new InputError(`${source}: the row ${JSON.stringify(line.trim().slice(0, 60))} is not all numbers; expected ${expected}`, source);
+    }
+  }
+}
+
 function findColumn(header: string[] | null, pattern: RegExp): number {
   if (!header) return -1;
   return header.findIndex((h) => pattern.test(h.trim().replace(/\s+/g, '_').replace(/[()[\]]/g, '')));
@@ -26,6 +43,7 @@ function findColumn(header: string[] | null, pattern: RegExp): number {
 export function malusPointsFromTable(table: NumericTable, source: string): MalusPoint[] {
   const width = table.rows[0]?.length ?? 0;
   if (width < 2) throw new InputError(`${source}: expected at least two columns (angle_deg, intensity), got ${width}`, source);
+  refuseHiddenRows(table, source, 'angle_deg,intensity[,uncertainty]');
   let angle = findColumn(table.header, ANGLE);
   let intensity = findColumn(table.header, INTENSITY);
   let uncertainty = findColumn(table.header, UNCERTAINTY);
@@ -53,6 +71,7 @@ export function malusPointsFromTable(table: NumericTable, source: string): Malus
 export function timeSeriesFromTable(table: NumericTable, source: string): TimeSeries {
   const width = table.rows[0]?.length ?? 0;
   if (width < 2) throw new InputError(`${source}: expected two columns (time_s, intensity), got ${width}`, source);
+  refuseHiddenRows(table, source, 'time_s,intensity');
   let time = findColumn(table.header, TIME);
   let intensity = findColumn(table.header, INTENSITY);
   if (time < 0 || intensity < 0) {

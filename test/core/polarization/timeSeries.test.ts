@@ -73,10 +73,10 @@ describe('analyseTimeSeries(series, options)', () => {
 
   it('names the sample when times do not increase or intensities are bad', () => {
     const bad = make(() => 1, 0, 1);
-    const t = [...bad.timeS];
+    const t = Array.from(bad.timeS);
     t[5] = t[4];
     expect(() => analyseTimeSeries({ ...bad, timeS: t, labels: t.map((_, i) => `line ${i + 3}`) })).toThrow(/burst\.csv, line 8: time_s: expected a time later than the previous sample's 2 s/);
-    const y = [...bad.intensity];
+    const y = Array.from(bad.intensity);
     y[2] = -1;
     expect(() => analyseTimeSeries({ ...bad, intensity: y })).toThrow(/sample 3: intensity: expected a finite, non-negative intensity, got -1/);
     expect(() => analyseTimeSeries({ timeS: [0, 1, 2], intensity: [1, 1, 1], source: 'short.csv' })).toThrow(/short\.csv: expected at least 10 samples, got 3/);
