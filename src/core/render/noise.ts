@@ -108,9 +108,13 @@ export class NoiseGenerator {
     return (t ^ (t >>> 14)) >>> 0;
   }
 
-  /** Uniform in [0, 1). */
+  /** Uniform in [0, 1) (mulberry32, written out again: this is the hottest call of a render). */
   uniform(): number {
-    return this.bits() / 4294967296;
+    this.state = (this.state + 0x6d2b79f5) >>> 0;
+    let t = this.state;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
   }
 
   /** Standard normal deviate (ziggurat). */
@@ -163,7 +167,11 @@ export class NoiseGenerator {
       }
       return k + k2;
     }
-    // PTRS (Hörmann 1993), constants as published.
+    return this.poissonLarge(mean);
+  }
+
+  /** PTRS (Hörmann 1993) for mean ≥ 10, constants as published. */
+  private poissonLarge(mean: number): number {
     const slam = Math.sqrt(mean);
     const b = 0.931 + 2.53 * slam;
     const a = -0.059 + 0.02483 * b;

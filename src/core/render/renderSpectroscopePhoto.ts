@@ -314,13 +314,6 @@ function sample3(grid: Float64Array, n: number, fi: number, c: number): number {
   return grid[3 * i0 + c] * (1 - t) + grid[3 * i0 + 3 + c] * t;
 }
 
-function sample1(grid: Float64Array, fi: number): number {
-  const i0 = Math.floor(fi);
-  if (i0 < 0 || i0 + 1 >= grid.length) return 0;
-  const t = fi - i0;
-  return grid[i0] * (1 - t) + grid[i0 + 1] * t;
-}
-
 /** Truth lists order +1 first, then +2, −1 and the rest. */
 function orderRank(order: number): number {
   return order === 1 ? 0 : order === 2 ? 1 : order === -1 ? 2 : 3 + Math.abs(order);
@@ -359,63 +352,82 @@ interface StripeInput {
 /** Adds the band's expected electrons to `mean` over the stripe |v| ≤ vMax. */
 function drawStripe(mean: Float32Array, s: StripeInput): void {
   const W = s.widthPx;
-  const { cosP, sinP, tanS, offsetPx: q0, vMax } = s;
+  const H = s.heightPx;
+  const { cosP, sinP, tanS, offsetPx: q0, vMax, originX, originY, scale } = s;
   const core = s.core.grid;
   const nCore = s.core.n;
+  const coreStart = s.core.start;
   const invCoreStep = 1 / s.core.step;
   const vGrid = s.vProfile.grid;
+  const nV = vGrid.length;
   const vCoreMax = -s.vProfile.start;
   const invVStep = 1 / s.vProfile.step;
-  const stray = s.stray;
-  const strayGrid = stray?.grid ?? new Float64Array(0);
-  const strayN = stray?.n ?? 0;
-  const strayNorm = stray ? 1 / (stray.sigmaPx * Math.sqrt(2 * Math.PI)) : 0;
-  const strayK = stray ? -0.5 / (stray.sigmaPx * stray.sigmaPx) : 0;
-  for (let y = 0; y < s.heightPx; y++) {
-    const dy = y - s.originY;
+  const hasStray = s.stray !== null;
+  const strayGrid = s.stray?.grid ?? new Float64Array(0);
+  const strayN = s.stray?.n ?? 0;
+  const strayStart = s.stray?.start ?? 0;
+  // The glow's profile across the band, N(0, σ) tabulated every 1/4 px.
+  const strayStep = 0.25;
+  const strayProfile = new Float64Array(hasStray ? Math.ceil((2 * vMax) / strayStep) + 2 : 0);
+  if (hasStray) {
+    const sigma = s.stray!.sigmaPx;
+    for (let i = 0; i < strayProfile.length; i++) {
+      const v = i * strayStep - vMax;
+      strayProfile[i] = (Math.exp((-0.5 * v * v) / (sigma * sigma)) / (sigma * Math.sqrt(2 * Math.PI))) * scale;
+    }
+  }
+  const nStrayProfile = strayProfile.length;
+  for (let y = 0; y < H; y++) {
+    const dy = y - originY;
     // x range where |v| ≤ vMax, v = −dx·sinφ + dy·cosφ − q0.
     let xLo = 0;
     let xHi = W - 1;
     if (Math.abs(sinP) > 1e-12) {
       const a = (dy * cosP - q0 - vMax) / sinP;
       const b = (dy * cosP - q0 + vMax) / sinP;
-      xLo = Math.max(0, Math.floor(Math.min(a, b) + s.originX));
-      xHi = Math.min(W - 1, Math.ceil(Math.max(a, b) + s.originX));
+      xLo = Math.max(0, Math.floor(Math.min(a, b) + originX));
+      xHi = Math.min(W - 1, Math.ceil(Math.max(a, b) + originX));
     } else if (Math.abs(dy * cosP - q0) > vMax) {
       continue;
     }
     for (let x = xLo; x <= xHi; x++) {
-      const dx = x - s.originX;
+      const dx = x - originX;
       const v = -dx * sinP + dy * cosP - q0;
-      if (Math.abs(v) > vMax) continue;
+      if (v > vMax || v < -vMax) continue;
       const p = dx * cosP + dy * sinP;
       const a = 3 * (y * W + x);
-      if (Math.abs(v) < vCoreMax) {
+      if (v < vCoreMax && v > -vCoreMax) {
         const vf = (v + vCoreMax) * invVStep;
         const vi = Math.floor(vf);
-        const vd = (vGrid[vi] * (1 - (vf - vi)) + (vGrid[vi + 1] ?? 0) * (vf - vi)) * s.scale;
+        const vt = vf - vi;
+        const vd = (vGrid[vi] * (1 - vt) + (vi + 1 < nV ? vGrid[vi + 1] : 0) * vt) * scale;
         if (vd > 0) {
-          const f = (p + v * tanS - s.core.start) * invCoreStep;
+          const f = (p + v * tanS - coreStart) * invCoreStep;
           const i0 = Math.floor(f);
           if (i0 >= 0 && i0 + 1 < nCore) {
             const t = f - i0;
+            const u = 1 - t;
             const j = 3 * i0;
-            mean[a] += (core[j] * (1 - t) + core[j + 3] * t) * vd;
-            mean[a + 1] += (core[j + 1] * (1 - t) + core[j + 4] * t) * vd;
-            mean[a + 2] += (core[j + 2] * (1 - t) + core[j + 5] * t) * vd;
+            mean[a] += (core[j] * u + core[j + 3] * t) * vd;
+            mean[a + 1] += (core[j + 1] * u + core[j + 4] * t) * vd;
+            mean[a + 2] += (core[j + 2] * u + core[j + 5] * t) * vd;
           }
         }
       }
-      if (stray) {
-        const f = p - stray.start;
+      if (hasStray) {
+        const f = p - strayStart;
         const i0 = Math.floor(f);
         if (i0 >= 0 && i0 + 1 < strayN) {
-          const sv = strayNorm * Math.exp(strayK * v * v) * s.scale;
+          const sf = (v + vMax) / strayStep;
+          const si = Math.floor(sf);
+          const st = sf - si;
+          const sv = strayProfile[si] * (1 - st) + (si + 1 < nStrayProfile ? strayProfile[si + 1] : 0) * st;
           const t = f - i0;
+          const u = 1 - t;
           const j = 3 * i0;
-          mean[a] += (strayGrid[j] * (1 - t) + strayGrid[j + 3] * t) * sv;
-          mean[a + 1] += (strayGrid[j + 1] * (1 - t) + strayGrid[j + 4] * t) * sv;
-          mean[a + 2] += (strayGrid[j + 2] * (1 - t) + strayGrid[j + 5] * t) * sv;
+          mean[a] += (strayGrid[j] * u + strayGrid[j + 3] * t) * sv;
+          mean[a + 1] += (strayGrid[j + 1] * u + strayGrid[j + 4] * t) * sv;
+          mean[a + 2] += (strayGrid[j + 2] * u + strayGrid[j + 5] * t) * sv;
         }
       }
     }
@@ -679,7 +691,7 @@ export function renderSpectroscopePhoto(input: RenderOptionsInput = {}): Rendere
     return sample3(core, n, toIndex(p), c) * vPeak * e + strayPart + ambient;
   };
   const saturatedAt = (p: number): boolean => [0, 1, 2].some((c) => expectedAt(p, c) >= fullWell);
-  const peakScale = ((kernelU.weights[kernelU.half] / h) * vPeak * e * (1 - stray));
+  const peakScale = (kernelU.weights[kernelU.half] / h) * vPeak * e * (1 - stray);
   const lines: TruthLine[] = placed
     .filter(({ order }) => order !== 0)
     .map(({ line, order, p, amp }) => {

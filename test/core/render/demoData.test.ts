@@ -3,8 +3,10 @@ import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { toSnakeCase } from '../../../src/core/json/toSnakeCase.js';
 import { renderSpectroscopePhoto } from '../../../src/core/render/index.js';
-import { demoScenario, demoTruthEntry } from '../../../src/io/demoData.js';
+import { DEMO_RIG, demoScenario, demoTruthEntry } from '../../../src/io/demoData.js';
+import sharp from 'sharp';
 import { decodeImage } from '../../../src/io/image.js';
+import { encodeRenderedPhoto } from '../../../src/io/writeRenderedPhoto.js';
 import { ROOT } from '../../helpers/runCli.js';
 
 const DEMO = path.join(ROOT, 'data', 'demo');
@@ -34,7 +36,10 @@ describe('data/demo (made by src/io/demoData.ts)', () => {
     for (const spec of specs) {
       const photo = renderSpectroscopePhoto({ ...spec.render, sensor: { ...spec.render.sensor, noise: false } });
       const want = round(toSnakeCase(demoTruthEntry(spec, photo)));
-      expect(truth.photos.find((p) => p.file === spec.file)).toEqual(want);
+      expect(
+        truth.photos.find((p) => p.file === spec.file),
+        `data/demo/${spec.file} is stale (line list, lamps or renderer changed): run npm run build && node dist/src/io/demoData.js`,
+      ).toEqual(want);
     }
   });
 
@@ -71,5 +76,17 @@ describe('data/demo (made by src/io/demoData.ts)', () => {
         expect(near).toBe(true);
       }
     }
+  });
+
+  it('the calibration photo is pixel for pixel what the generator renders now (±1 code after JPEG)', async () => {
+    const spec = specs[0];
+    const fresh = await encodeRenderedPhoto(renderSpectroscopePhoto(spec.render).image, {
+      format: { kind: 'jpeg', quality: DEMO_RIG.jpegQuality },
+      exif: spec.exif,
+    });
+    const [a, b] = await Promise.all([fresh, readFileSync(path.join(DEMO, spec.file))].map((buf) => sharp(buf).raw().toBuffer()));
+    let worst = 0;
+    for (let i = 0; i < a.length; i++) worst = Math.max(worst, Math.abs(a[i] - b[i]));
+    expect(worst, `data/demo/${spec.file} is stale: run npm run build && node dist/src/io/demoData.js`).toBeLessThanOrEqual(1);
   });
 });
