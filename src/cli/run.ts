@@ -1,3 +1,4 @@
+import { CommanderError } from 'commander';
 import { InputError } from '../core/errors.js';
 import { toSnakeCase } from '../core/json/toSnakeCase.js';
 
@@ -20,6 +21,8 @@ export function action<A extends unknown[]>(fn: (...args: A) => Promise<void> | 
     try {
       await fn(...args);
     } catch (err) {
+      // Usage mistakes found inside an action (cmd.error) go on to main, which exits 2.
+      if (err instanceof CommanderError) throw err;
       if (err instanceof InputError) {
         note(`glowprint: ${err.message}`);
         process.exitCode = 1;

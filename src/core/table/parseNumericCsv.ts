@@ -81,6 +81,25 @@ export function parseNumericCsv(text: string, options: ParseNumericCsvOptions): 
       source,
     );
   }
+  // A numeric row above the data block, or a "header" that starts with a number, is a broken data row (a NaN or a
+  // typo near the top), not metadata: report it rather than read around it.
+  const firstNumeric = parsedRows.findIndex((r) => {
+    const v = numeric(r.cells);
+    return v !== null && v.length >= minColumns;
+  });
+  const suspect =
+    firstNumeric >= 0 && firstNumeric < start
+      ? parsedRows.slice(firstNumeric + 1, start).find((r) => !numeric(r.cells))
+      : start > 0 && toNumber(parsedRows[start - 1].cells[0] ?? '', decimalComma) !== null
+        ? parsedRows[start - 1]
+        : undefined;
+  if (suspect) {
+    const bad = suspect.cells.find((c) => toNumber(c, decimalComma) === null) ?? '';
+    throw new InputError(
+      `${source}, line ${suspect.line}, column ${suspect.cells.indexOf(bad) + 1}: expected a number, got ${JSON.stringify(bad.trim())}`,
+      source,
+    );
+  }
   const width = parsedRows[start].cells.length;
   let header: string[] | null = null;
   if (start > 0) {

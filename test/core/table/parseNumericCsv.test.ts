@@ -40,6 +40,12 @@ describe('parseNumericCsv(text, {source})', () => {
     expect((caught as Error).message).toBe('trace.csv, line 4, column 2 (v): expected a number, got "abc"');
   });
 
+  it('reports a bad row near the top instead of taking it for a header or metadata', () => {
+    expect(() => parseNumericCsv('0,NaN\n10,1\n20,2\n', opts)).toThrow(/line 1, column 2: expected a number, got "NaN"/);
+    expect(() => parseNumericCsv('0,1\n45,NaN\n90,2\n', opts)).toThrow(/line 2, column 2: expected a number, got "NaN"/);
+    expect(() => parseNumericCsv('angle_deg,intensity\n0,1\n45,x\n90,2\n', opts)).toThrow(/line 3, column 2: expected a number, got "x"/);
+  });
+
   it('rejects a short row, an empty file and a file with no numbers', () => {
     expect(() => parseNumericCsv('0,1\n1,2\n2\n', opts)).toThrow(/line 3: expected 2 columns/);
     expect(() => parseNumericCsv('\n# only a comment\n', opts)).toThrow(/no data rows/);
