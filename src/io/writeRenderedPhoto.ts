@@ -46,9 +46,10 @@ function rational(value: number): string {
   return String(value);
 }
 
-function exifTags(exif: PhotoExif): sharp.Exif {
+function exifTags(exif: PhotoExif, srgb: boolean): sharp.Exif {
   const ifd0: Record<string, string> = {};
-  const ifd2: Record<string, string> = {};
+  // ColorSpace 1 = sRGB (EXIF 2.32 §4.6.5); libvips would otherwise write 65535, "uncalibrated".
+  const ifd2: Record<string, string> = srgb ? { ColorSpace: '1' } : {};
   if (exif.make) ifd0.Make = exif.make;
   if (exif.model) ifd0.Model = exif.model;
   if (exif.software) ifd0.Software = exif.software;
@@ -93,7 +94,7 @@ export async function encodeRenderedPhoto(
     default:
       throw invalid('format.kind', "'jpeg', 'png8', 'png16' or 'tiff16'", (o.format as { kind: unknown }).kind);
   }
-  if (o.exif) pipeline = pipeline.withExif(exifTags(o.exif));
+  if (o.exif) pipeline = pipeline.withExif(exifTags(o.exif, o.format.kind === 'jpeg' || o.format.kind === 'png8'));
   return pipeline.toBuffer();
 }
 

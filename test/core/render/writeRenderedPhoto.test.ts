@@ -1,3 +1,4 @@
+import sharp from 'sharp';
 import { describe, expect, it } from 'vitest';
 import { encodeLinear16, encodeSrgb8, renderSpectroscopePhoto } from '../../../src/core/render/index.js';
 import type { LinearImage } from '../../../src/core/types.js';
@@ -65,6 +66,13 @@ describe('encodeRenderedPhoto(image, {format, exif})', () => {
         expect(Math.abs(d[i] - Math.round(img.data[i] * 65535) / 65535)).toBeLessThanOrEqual(1e-6);
       }
     }
+  });
+
+  it('writes an 8-bit PNG holding exactly the sRGB codes of encodeSrgb8', async () => {
+    const img = ramp();
+    const bytes = await encodeRenderedPhoto(img, { format: { kind: 'png8' } });
+    const raw = await sharp(bytes).raw().toBuffer();
+    expect(Buffer.from(encodeSrgb8(img)).equals(raw)).toBe(true);
   });
 
   it('rejects a JPEG quality outside 1–100 naming format.quality', async () => {
