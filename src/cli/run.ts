@@ -1,5 +1,5 @@
 import { CommanderError } from 'commander';
-import { InputError } from '../core/errors.js';
+import { InputError, parseNumberOption } from '../core/errors.js';
 import { toSnakeCase } from '../core/json/toSnakeCase.js';
 
 /** Prints a core result as the one JSON object of the machine-output contract (snake_case keys, units in names). */
@@ -42,9 +42,4 @@ export function action<A extends unknown[]>(fn: (...args: A) => Promise<void> | 
 }
 
 /** Parses a finite number option, naming the option in the error. */
-export function numberOption(name: string, value: string | undefined): number | undefined {
-  if (value === undefined) return undefined;
-  const v = Number(value);
-  if (value.trim() === '' || !Number.isFinite(v)) throw new InputError(`${name}: expected a number, got ${JSON.stringify(value)}`, name);
-  return v;
-}
+export const numberOption = parseNumberOption;

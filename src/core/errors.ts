@@ -39,3 +39,11 @@ export function assertFinite(name: string, value: unknown, min = -Infinity, max 
     throw invalid(name, `a number ${range}`, value);
   }
 }
+
+/** Parses a number given as text (a flag or form field), naming the option in the error; undefined stays undefined. */
+export function parseNumberOption(name: string, value: string | undefined): number | undefined {
+  if (value === undefined) return undefined;
+  const v = Number(value);
+  if (value.trim() === '' || !Number.isFinite(v)) throw new InputError(`${name}: expected a number, got ${JSON.stringify(value)}`, name);
+  return v;
+}
