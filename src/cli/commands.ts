@@ -2,10 +2,12 @@ import type { Command } from 'commander';
 import { registerServe } from './serve.js';
 import { registerGrating } from './grating.js';
 import { registerPolarization } from './polarization.js';
+import { registerModes } from './modes.js';
 
 /** Every CLI command registers itself here; one file per command in this folder. */
 export const commands: Array<(program: Command) => void> = [
   registerServe,
   registerGrating,
   registerPolarization,
+  registerModes,
 ];
