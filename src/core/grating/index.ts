@@ -4,7 +4,7 @@ export type { FitScreenOptions, ScreenPosition, ScreenSeparation } from './fitSc
 export { FIT_ANGLES_DEFAULTS, fitAngles } from './fitAngles.js';
 export type { FitAnglesOptions, MeasuredAngle } from './fitAngles.js';
 export { lineDensityFromProfile } from './fromProfile.js';
-export type { ProfileLineDensitySource } from './fromProfile.js';
+export type { GratingModelLike, ProfileLike, ProfileLineDensitySource } from './fromProfile.js';
 export { VERDICT_DEFAULTS, gratingVerdict, parseTolerance } from './verdict.js';
 export type { GratingVerdict, Tolerance, VerdictOptions } from './verdict.js';
 export { DERIVED_DEFAULTS, derivedFigures } from './derived.js';

@@ -1,10 +1,9 @@
 import { describe, expect, it } from 'vitest';
-import type { GratingModel } from '../../../src/core/calibration/gratingModel.js';
-import { lineDensityFromProfile } from '../../../src/core/grating/index.js';
+import { lineDensityFromProfile, type GratingModelLike } from '../../../src/core/grating/index.js';
 
 describe('lineDensityFromProfile(profile) — photo method', () => {
   it('turns a fitted groove spacing into lines/mm with its uncertainty (G = 10⁶/d, u(G) = 10⁶ u(d)/d²)', () => {
-    const model: GratingModel = {
+    const model: GratingModelLike & Record<string, unknown> = {
       kind: 'grating',
       order: 1,
       incidenceAngleDeg: 0,
@@ -30,5 +29,8 @@ describe('lineDensityFromProfile(profile) — photo method', () => {
   it('reads snake_case fields of a saved profile and refuses a profile without a line density', () => {
     expect(lineDensityFromProfile({ lines_per_mm: 600, lines_per_mm_uncertainty: 3 }).linesPerMmUncertainty).toBe(3);
     expect(() => lineDensityFromProfile({}, 'lamp.json')).toThrow(/lamp\.json: no line density in this profile/);
+    const saved = lineDensityFromProfile({ lines_per_mm: 998.7, lines_per_mm_uncertainty: 4.1, focal_length_source: 'exif', model: { kind: 'grating', free: [true, true, true, false] } });
+    expect(saved.linesPerMm).toBe(998.7);
+    expect(saved.warnings.join(' ')).toMatch(/focal length was fixed/);
   });
 });
