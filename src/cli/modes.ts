@@ -169,9 +169,17 @@ function combine(series: ModeSeries, fsrHz: number, refractiveIndex: number) {
     return v.length ? v.reduce((a, b) => a + b, 0) / v.length : null;
   };
   const cavityLengthM = spacing ? cavityLengthFromSpacing({ modeSpacingHz: spacing, refractiveIndex }) : null;
+  // One trace: its own uncertainty; several: the standard error of their mean.
+  const spread = (values: Array<number | null>, own: number | null): number | null => {
+    const v = values.filter((x): x is number => x !== null && Number.isFinite(x));
+    if (v.length < 2) return own;
+    const m = v.reduce((a, b) => a + b, 0) / v.length;
+    return Math.sqrt(v.reduce((a, b) => a + (b - m) ** 2, 0) / (v.length - 1) / v.length);
+  };
   return {
     fsrHz,
     fsrPeriodS: meanOf(traces.map((t) => t.fsrPeriodS)),
+    fsrPeriodUncertaintyS: spread(traces.map((t) => t.fsrPeriodS), last.fsrPeriodUncertaintyS),
     modeSpacingHz: spacing,
     modeSpacingUncertaintyHz: spacingSigma,
     cavityLengthM,
@@ -181,7 +189,9 @@ function combine(series: ModeSeries, fsrHz: number, refractiveIndex: number) {
     modesFrom: last.source,
     gainModel: last.gainModel,
     gainFwhmHz: meanOf(traces.map((t) => t.gainFwhmHz)),
+    gainFwhmUncertaintyHz: spread(traces.map((t) => t.gainFwhmHz), last.gainFwhmUncertaintyHz),
     finesse: meanOf(traces.map((t) => t.finesse)),
+    finesseUncertainty: spread(traces.map((t) => t.finesse), last.finesseUncertainty),
     peakFwhmHz: meanOf(traces.map((t) => t.peakFwhmHz)),
     driftHzPerS: series.drift?.driftHzPerS ?? null,
     driftUncertaintyHzPerS: series.drift?.driftUncertaintyHzPerS ?? null,
