@@ -156,7 +156,9 @@ async function decodeOne(input: string | Buffer, o: DecodeOneOptions): Promise<D
 
   let raw: { data: Buffer; info: sharp.OutputInfo };
   try {
-    raw = await sharp(bytes, { limitInputPixels: Math.floor(o.maxPixels), failOn: 'warning' })
+    // failOn 'error': damaged or truncated data is refused, while the harmless decoder warnings many phone JPEGs
+    // raise (extra bytes after the image, odd markers) are not.
+    raw = await sharp(bytes, { limitInputPixels: Math.floor(o.maxPixels), failOn: 'error' })
       .rotate() // applies the EXIF orientation; a no-op on upright photos
       .removeAlpha()
       .toColourspace(grey ? (bitDepth === 16 ? 'grey16' : 'b-w') : bitDepth === 16 ? 'rgb16' : 'srgb')

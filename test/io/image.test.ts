@@ -263,6 +263,11 @@ describe('decodeImage — bad input gets one clear message naming the file', () 
     const f = file('cut.jpg', jpg.subarray(0, Math.floor(jpg.length / 2)));
     await expect(decodeImage(f)).rejects.toThrow(new RegExp(`^${escape(f)}: the JPEG data is damaged or cut short and cannot be decoded \\(.*premature end`));
   });
+  it('a JPEG with stray bytes after its end marker still decodes (a decoder warning, not damage)', async () => {
+    const jpg = await sharp(rgb8(W, H), { raw: { width: W, height: H, channels: 3 } }).jpeg().toBuffer();
+    const r = await decodeImage(Buffer.concat([jpg, Buffer.from('trailing bytes from a phone app')]));
+    expect([r.widthPx, r.heightPx]).toEqual([W, H]);
+  });
   it('text renamed .jpg', async () => {
     const f = file('notes.jpg', 'position,intensity\n1,2\n');
     await expect(decodeImage(f)).rejects.toThrow(`${f}: contains text, not image data (despite its .jpg name); expected JPEG, PNG, TIFF or WebP`);
