@@ -141,6 +141,9 @@ export function findModePeaks(trace: ModeTrace, segments: readonly RampSegment[]
  * Without this the pedestal of overlapping wings pulls the centres of a mode group together and biases widths and
  * powers.
  */
+/** Wings are followed this many widths out (a Lorentzian is down to 1/(1 + 4·REACH²) ≈ 0.06 % there). */
+const REACH = 20;
+
 export function refineAiryPeaks(
   y: ArrayLike<number>,
   peaks: ReadonlyArray<{ center: number; height: number; width: number }>,
@@ -153,20 +156,30 @@ export function refineAiryPeaks(
     return 1 / (1 + d * d);
   };
   for (let pass = 0; pass < passes && est.length > 0; pass++) {
-    // 1. Heights, jointly.
-    const rows: number[][] = [];
-    const rhs: number[] = [];
-    const used = new Uint8Array(n);
-    for (const p of est) {
-      for (let i = Math.max(0, Math.floor(p.center - p.width)); i <= Math.min(n - 1, Math.ceil(p.center + p.width)); i++) used[i] = 1;
+    // 1. Heights, jointly within each cluster of peaks whose wings reach each other (gaps under REACH widths).
+    const order = est.map((_, j) => j).sort((a, b) => est[a].center - est[b].center);
+    const clusters: number[][] = [];
+    for (const j of order) {
+      const last = clusters[clusters.length - 1];
+      const prev = last ? est[last[last.length - 1]] : null;
+      if (prev && est[j].center - prev.center < REACH * Math.max(prev.width, est[j].width)) last.push(j);
+      else clusters.push([j]);
     }
-    for (let i = 0; i < n; i++) {
-      if (!used[i]) continue;
-      rows.push(est.map((p) => (Math.abs(i - p.center) < 80 * p.width ? lorentz(i, p) : 0)));
-      rhs.push(y[i]);
+    const heights = est.map((p) => p.height);
+    for (const cluster of clusters) {
+      const rows: number[][] = [];
+      const rhs: number[] = [];
+      const lo = Math.max(0, Math.floor(Math.min(...cluster.map((j) => est[j].center - est[j].width))));
+      const hi = Math.min(n - 1, Math.ceil(Math.max(...cluster.map((j) => est[j].center + est[j].width))));
+      for (let i = lo; i <= hi; i++) {
+        if (!cluster.some((j) => Math.abs(i - est[j].center) <= est[j].width)) continue;
+        rows.push(cluster.map((j) => lorentz(i, est[j])));
+        rhs.push(y[i]);
+      }
+      const fit = rows.length > cluster.length ? linearLeastSquares(rows, rhs) : null;
+      if (fit) cluster.forEach((j, c) => (heights[j] = fit.params[c] > 0 ? fit.params[c] : heights[j]));
     }
-    const fit = rows.length > est.length ? linearLeastSquares(rows, rhs) : null;
-    if (fit) est = est.map((p, j) => ({ ...p, height: fit.params[j] > 0 ? fit.params[j] : p.height }));
+    est = est.map((p, j) => ({ ...p, height: heights[j] }));
     // 2. Centres and widths, one at a time against the others.
     est = est.map((p, j) => {
       const lo = Math.max(0, Math.floor(p.center - 3 * p.width));
@@ -174,8 +187,20 @@ export function refineAiryPeaks(
       const z = new Float64Array(hi - lo + 1);
       for (let i = lo; i <= hi; i++) {
         let v = y[i];
-        for (let q = 0; q < est.length; q++) if (q !== j && Math.abs(i - est[q].center) < 80 * est[q].width) v -= est[q].height * lorentz(i, est[q]);
+        for (let q = 0; q < est.length; q++) if (q !== j && Math.abs(i - est[q].center) < REACH * est[q].width) v -= est[q].height * lorentz(i, est[q]);
         z[i - lo] = v;
+      }
+      // On finely sampled traces noise makes an early half-height crossing: smooth over ≈ w/8 first (it widens a
+      // Lorentzian by a negligible (w/8)²/12 in variance).
+      const k = Math.floor(p.width / 16);
+      if (k >= 1) {
+        const prefix = new Float64Array(z.length + 1);
+        for (let i = 0; i < z.length; i++) prefix[i + 1] = prefix[i] + z[i];
+        for (let i = 0; i < z.length; i++) {
+          const a = Math.max(0, i - k);
+          const b = Math.min(z.length, i + k + 1);
+          z[i] = (prefix[b] - prefix[a]) / (b - a);
+        }
       }
       const half = p.height / 2;
       let top = Math.min(z.length - 1, Math.max(0, Math.round(p.center) - lo));
