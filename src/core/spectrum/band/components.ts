@@ -1,0 +1,157 @@
+/**
+ * Connected components (8-connected) of a thresholded image with the moments the coarse search needs: weight,
+ * weighted centroid and second moments, colour sums, peak, clipped pixels, bounding box. Two-pass labelling with
+ * union–find on typed arrays.
+ */
+
+export interface Component {
+  /** Pixels in the component. */
+  area: number;
+  /** Σ w, the component's weight (w = the capped signal of each pixel). */
+  weight: number;
+  /** Weighted centroid. */
+  cx: number;
+  cy: number;
+  /** Weighted central second moments. */
+  sxx: number;
+  sxy: number;
+  syy: number;
+  /** Σ of each plane's signal over the component (colour). */
+  colour: number[];
+  /** Largest signal. */
+  peak: number;
+  /** Pixels with clipped data. */
+  clippedPixels: number;
+  minX: number;
+  maxX: number;
+  minY: number;
+  maxY: number;
+}
+
+/**
+ * Labels `mask` (1 = set) and accumulates the statistics. `weight` gives each pixel's w, `planes` the colour signal,
+ * `clipped` a per-pixel clipped fraction.
+ */
+export function labelComponents(
+  mask: Uint8Array,
+  width: number,
+  height: number,
+  weight: Float32Array,
+  planes: Float32Array[],
+  clipped: Float32Array,
+): { components: Component[]; labels: Int32Array } {
+  const labels = new Int32Array(width * height).fill(-1);
+  const parent: number[] = [];
+  const find = (a: number): number => {
+    while (parent[a] !== a) {
+      parent[a] = parent[parent[a]];
+      a = parent[a];
+    }
+    return a;
+  };
+  const union = (a: number, b: number): number => {
+    const ra = find(a);
+    const rb = find(b);
+    if (ra === rb) return ra;
+    if (ra < rb) {
+      parent[rb] = ra;
+      return ra;
+    }
+    parent[ra] = rb;
+    return rb;
+  };
+  for (let y = 0; y < height; y++) {
+    for (let x = 0; x < width; x++) {
+      const k = y * width + x;
+      if (!mask[k]) continue;
+      let l = -1;
+      // Neighbours already visited: W, NW, N, NE.
+      for (let t = 0; t < 4; t++) {
+        const n =
+          t === 0 ? (x > 0 ? k - 1 : -1) : t === 1 ? (y > 0 && x > 0 ? k - width - 1 : -1) : t === 2 ? (y > 0 ? k - width : -1) : y > 0 && x < width - 1 ? k - width + 1 : -1;
+        if (n < 0 || labels[n] < 0) continue;
+        l = l < 0 ? find(labels[n]) : union(l, labels[n]);
+      }
+      if (l < 0) {
+        l = parent.length;
+        parent.push(l);
+      }
+      labels[k] = l;
+    }
+  }
+  const index = new Map<number, number>();
+  const acc: { n: number; w: number; x: number; y: number; xx: number; xy: number; yy: number; col: number[]; peak: number; clip: number; minX: number; maxX: number; minY: number; maxY: number }[] = [];
+  const np = planes.length;
+  for (let y = 0; y < height; y++) {
+    for (let x = 0; x < width; x++) {
+      const k = y * width + x;
+      if (labels[k] < 0) continue;
+      const root = find(labels[k]);
+      let c = index.get(root);
+      if (c === undefined) {
+        c = acc.length;
+        index.set(root, c);
+        acc.push({ n: 0, w: 0, x: 0, y: 0, xx: 0, xy: 0, yy: 0, col: new Array<number>(np).fill(0), peak: -Infinity, clip: 0, minX: x, maxX: x, minY: y, maxY: y });
+      }
+      const a = acc[c];
+      const w = weight[k];
+      a.n++;
+      a.w += w;
+      a.x += w * x;
+      a.y += w * y;
+      a.xx += w * x * x;
+      a.xy += w * x * y;
+      a.yy += w * y * y;
+      for (let p = 0; p < np; p++) a.col[p] += planes[p][k];
+      if (w > a.peak) a.peak = w;
+      if (clipped[k] > 0) a.clip++;
+      if (x < a.minX) a.minX = x;
+      if (x > a.maxX) a.maxX = x;
+      if (y < a.minY) a.minY = y;
+      if (y > a.maxY) a.maxY = y;
+    }
+  }
+  // Labels → index into the returned list (−1: background or a component of zero weight).
+  const keep = acc.map((a) => a.w > 0);
+  const renumber = new Int32Array(acc.length).fill(-1);
+  let next = 0;
+  for (let c = 0; c < acc.length; c++) if (keep[c]) renumber[c] = next++;
+  for (let k = 0; k < labels.length; k++) if (labels[k] >= 0) labels[k] = renumber[index.get(find(labels[k]))!];
+  const components = acc
+    .filter((a) => a.w > 0)
+    .map((a) => {
+      const cx = a.x / a.w;
+      const cy = a.y / a.w;
+      return {
+        area: a.n,
+        weight: a.w,
+        cx,
+        cy,
+        // Central moments plus 1/12 px² for the pixel's own extent (so a 1-px-wide bar is not infinitely thin).
+        sxx: Math.max(0, a.xx / a.w - cx * cx) + 1 / 12,
+        sxy: a.xy / a.w - cx * cy,
+        syy: Math.max(0, a.yy / a.w - cy * cy) + 1 / 12,
+        colour: a.col,
+        peak: a.peak,
+        clippedPixels: a.clip,
+        minX: a.minX,
+        maxX: a.maxX,
+        minY: a.minY,
+        maxY: a.maxY,
+      };
+    });
+  return { components, labels };
+}
+
+/** Principal axes of a component: major-axis direction (rad, in (−π/2, π/2]) and the standard deviations along both axes. */
+export function principalAxes(c: Pick<Component, 'sxx' | 'sxy' | 'syy'>): { angle: number; major: number; minor: number } {
+  const t = 0.5 * (c.sxx + c.syy);
+  const d = Math.sqrt(0.25 * (c.sxx - c.syy) ** 2 + c.sxy * c.sxy);
+  const angle = 0.5 * Math.atan2(2 * c.sxy, c.sxx - c.syy);
+  return { angle, major: Math.sqrt(Math.max(0, t + d)), minor: Math.sqrt(Math.max(0, t - d)) };
+}
+
+/** Standard deviation of a component along direction (ux, uy). */
+export function spreadAlong(c: Pick<Component, 'sxx' | 'sxy' | 'syy'>, ux: number, uy: number): number {
+  return Math.sqrt(Math.max(0, ux * ux * c.sxx + 2 * ux * uy * c.sxy + uy * uy * c.syy));
+}

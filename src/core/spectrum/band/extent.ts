@@ -1,0 +1,261 @@
+/**
+ * The band's height, its centre across, and its length along the axis, measured on the band's own samples.
+ *
+ * Height: the band's cross profile (per row, the median over the bright columns of each column's profile normalised
+ * to its flux; background from the outermost rows subtracted); heightPx is its full width at half maximum, the centre
+ * the midpoint of the two half-maximum crossings. For a slit image (a flat top with blurred edges) that is the slit
+ * image's height; for a Gaussian band its FWHM. The 10 % crossings give the width of the wings, which extraction
+ * needs as margin.
+ *
+ * Length: the spectrum along the whole axis inside the image (core rows, background from rows beyond the band),
+ * smoothed over 5 px; the band runs from the first to the last sample above max(5 σ, 0.5 % of the peak), plus a pad
+ * of max(6 px, 1 % of the length), clipped to the image. A zero order found on the axis, and everything beyond it,
+ * is left out.
+ */
+import type { BandGeometry, LinearImage, PointPx } from '../../types.js';
+import { columnBackground } from '../extraction/background.js';
+import { neighbourSigma } from '../extraction/profile.js';
+import { sampleBand } from '../sampleBand.js';
+import { type Ambient, subtractAmbient } from './ambient.js';
+import { bandFrame, imageToBandPx } from './frame.js';
+
+export interface CrossProfile {
+  offsetPx: Float64Array;
+  value: Float64Array;
+}
+
+export interface HeightMeasure {
+  heightPx: number;
+  /** Offset of the half-maximum midpoint from the assumed centre line (px). */
+  centreOffsetPx: number;
+  /** Distance from the half-maximum to the 1 % level, the larger side (px). */
+  wingPx: number;
+  profile: CrossProfile;
+  /** The half-maximum crossings were found inside the sampled window. */
+  complete: boolean;
+}
+
+export function measureHeight(image: LinearImage, band: BandGeometry, ambient?: Ambient): HeightMeasure {
+  let half = Math.max(1.5 * band.heightPx, band.heightPx / 2 + 30);
+  let last: HeightMeasure | null = null;
+  for (let attempt = 0; attempt < 3; attempt++) {
+    const m = crossProfileOnce(image, band, half, ambient);
+    last = m;
+    if (m.complete) return m;
+    half *= 2;
+  }
+  return last!;
+}
+
+function crossProfileOnce(image: LinearImage, band: BandGeometry, halfWidthPx: number, ambient: Ambient | undefined): HeightMeasure {
+  const rowStepPx = Math.max(1, (2 * halfWidthPx) / 400);
+  const stepPx = Math.max(1, band.lengthPx / 2000);
+  const s = sampleBand(image, band, { halfWidthPx, rowStepPx, stepPx, combine: true });
+  if (ambient) subtractAmbient(s, band, ambient);
+  const R = s.rows;
+  const N = s.columns;
+  const q = s.offsetPx;
+  // Rows inside the image in at least half of the columns; the outermost 12 % of them on each side are background.
+  let r0 = 0;
+  let r1 = R - 1;
+  const inside = (j: number): boolean => {
+    let n = 0;
+    for (let i = 0; i < N; i++) n += s.valid[i * R + j];
+    return n >= 0.5 * N;
+  };
+  while (r0 < R - 1 && !inside(r0)) r0++;
+  while (r1 > r0 && !inside(r1)) r1--;
+  const nb = Math.max(2, Math.round((r1 - r0 + 1) * 0.12));
+  const bg = columnBackground(s.planes[0], s.valid, N, R, q, [r0, r0 + nb - 1], [r1 - nb + 1, r1], 9);
+  const plane = s.planes[0];
+  const core = Math.max(1, band.heightPx / 2);
+  const flux = new Float64Array(N);
+  for (let i = 0; i < N; i++) {
+    let f = 0;
+    for (let j = 0, k = i * R; j < R; j++, k++) {
+      if (s.valid[k] && Math.abs(q[j]) <= core) f += plane[k] - (bg.base[i] + q[j] * bg.slope[i]);
+    }
+    flux[i] = f;
+  }
+  // The median over the bright columns of each column's normalised profile: glare beside part of the band, a zero
+  // order or one saturated line cannot set it.
+  const positive = Array.from(flux).filter((v) => v > 0).sort((x, y) => x - y);
+  const p90 = positive.length > 0 ? positive[Math.floor(0.9 * (positive.length - 1))] : 0;
+  const noise = neighbourSigma(flux);
+  let bright: number[] = [];
+  for (let i = 0; i < N; i++) if (flux[i] >= 0.2 * p90 && flux[i] > 5 * noise && flux[i] > 0) bright.push(i);
+  if (bright.length > 300) bright = bright.filter((_, n) => n % Math.ceil(bright.length / 300) === 0);
+  const value = new Float64Array(R);
+  if (bright.length >= 3) {
+    const col = new Float64Array(bright.length);
+    for (let j = 0; j < R; j++) {
+      let n = 0;
+      for (const i of bright) {
+        const k = i * R + j;
+        if (s.valid[k]) col[n++] = (plane[k] - (bg.base[i] + q[j] * bg.slope[i])) / flux[i];
+      }
+      const sub = col.subarray(0, n);
+      sub.sort();
+      value[j] = n === 0 ? 0 : n % 2 ? sub[(n - 1) >> 1] : 0.5 * (sub[n / 2 - 1] + sub[n / 2]);
+    }
+  } else {
+    for (let i = 0; i < N; i++) {
+      for (let j = 0, k = i * R; j < R; j++, k++) if (s.valid[k]) value[j] += plane[k] - (bg.base[i] + q[j] * bg.slope[i]);
+    }
+  }
+  const sm = new Float64Array(R);
+  for (let j = 0; j < R; j++) sm[j] = (value[Math.max(0, j - 1)] + value[j] + value[Math.min(R - 1, j + 1)]) / 3;
+  // The plateau: the largest smoothed value nearest the assumed centre.
+  let jp = r0;
+  for (let j = r0 + 1; j <= r1; j++) if (sm[j] > sm[jp]) jp = j;
+  const peak = sm[jp];
+  const crossing = (level: number, dir: 1 | -1): number | null => {
+    for (let j = jp; j + dir >= r0 && j + dir <= r1; j += dir) {
+      const a = sm[j];
+      const b = sm[j + dir];
+      if (b < level) return q[j] + ((a - level) / (a - b)) * (q[j + dir] - q[j]);
+    }
+    return null;
+  };
+  const lo = crossing(0.5 * peak, -1);
+  const hi = crossing(0.5 * peak, 1);
+  const lo10 = crossing(0.1 * peak, -1);
+  const hi10 = crossing(0.1 * peak, 1);
+  const clipped = r0 > 0 || r1 < R - 1;
+  const complete = clipped || (lo !== null && hi !== null && peak > 0 && lo > q[r0 + nb] && hi < q[r1 - nb]);
+  const L = lo ?? q[r0];
+  const H = hi ?? q[r1];
+  // Half maximum → 1 %: 1.9 × (half maximum → 10 %) for a Gaussian edge (2.33 σ vs 1.28 σ) and a Gaussian band.
+  const edge = Math.max(lo10 === null ? 0 : L - lo10, hi10 === null ? 0 : hi10 - H);
+  return {
+    heightPx: Math.max(1, H - L),
+    centreOffsetPx: 0.5 * (L + H),
+    wingPx: 1.9 * edge,
+    profile: { offsetPx: Float64Array.from(q), value },
+    complete,
+  };
+}
+
+export interface LengthMeasure {
+  /** From and to (px, in the given band's positions). */
+  fromPx: number;
+  toPx: number;
+  /** The centre line's extent inside the image (px). */
+  insideFromPx: number;
+  insideToPx: number;
+  touchesEdge: boolean;
+}
+
+/** The band's extent along its axis, leaving out the zero order (if any) and what lies beyond it. */
+export function measureLength(image: LinearImage, band: BandGeometry, wingPx: number, zeroOrder: PointPx | null): LengthMeasure {
+  const [insideFrom, insideTo] = insideRange(band, image.width, image.height);
+  const H = band.heightPx;
+  const core = Math.max(1, 0.5 * H);
+  const bgFrom = 0.5 * H + wingPx + 3;
+  const bgTo = bgFrom + Math.min(30, Math.max(6, 0.3 * H));
+  const rowStepPx = Math.max(1, (2 * bgTo) / 300);
+  const s = sampleBand(image, band, { halfWidthPx: bgTo, rowStepPx, fromPx: insideFrom, toPx: insideTo, combine: true });
+  const R = s.rows;
+  const N = s.columns;
+  const q = s.offsetPx;
+  const low: [number, number] = [R, -1];
+  const high: [number, number] = [R, -1];
+  for (let j = 0; j < R; j++) {
+    if (Math.abs(q[j]) >= bgFrom) {
+      const side = q[j] < 0 ? low : high;
+      side[0] = Math.min(side[0], j);
+      side[1] = Math.max(side[1], j);
+    }
+  }
+  const bg = columnBackground(s.planes[0], s.valid, N, R, q, low, high, 15);
+  const flux = new Float64Array(N);
+  const plane = s.planes[0];
+  for (let i = 0; i < N; i++) {
+    let f = 0;
+    for (let j = 0, k = i * R; j < R; j++, k++) {
+      if (Math.abs(q[j]) <= core && s.valid[k]) f += plane[k] - (bg.base[i] + q[j] * bg.slope[i]);
+    }
+    flux[i] = f;
+  }
+  const sm = new Float64Array(N);
+  for (let i = 0; i < N; i++) {
+    let t = 0;
+    let n = 0;
+    for (let d = -2; d <= 2; d++) {
+      const k = i + d;
+      if (k >= 0 && k < N) {
+        t += flux[k];
+        n++;
+      }
+    }
+    sm[i] = t / n;
+  }
+  const sigma = neighbourSigma(flux) / Math.sqrt(5);
+  // Allowed range: with a zero order on the axis, only its far side from the band's bulk is cut away.
+  let lo = 0;
+  let hi = N - 1;
+  if (zeroOrder) {
+    const pz = imageToBandPx(band, zeroOrder).positionPx;
+    const iz = Math.round(pz - insideFrom); // one sample per px
+    if (iz >= 0 && iz < N) {
+      let peak = 0;
+      for (let i = 0; i < N; i++) peak = Math.max(peak, sm[i]);
+      const thr = Math.max(5 * sigma, 0.005 * peak);
+      let a = iz;
+      let b = iz;
+      while (a > 0 && sm[a - 1] > thr) a--;
+      while (b < N - 1 && sm[b + 1] > thr) b++;
+      let left = 0;
+      let right = 0;
+      for (let i = 0; i < a; i++) left += Math.max(0, flux[i]);
+      for (let i = b + 1; i < N; i++) right += Math.max(0, flux[i]);
+      if (right >= left) lo = Math.min(N - 1, b + 1);
+      else hi = Math.max(0, a - 1);
+    }
+  }
+  let peak = 0;
+  for (let i = lo; i <= hi; i++) peak = Math.max(peak, sm[i]);
+  const thr = Math.max(5 * sigma, 0.005 * peak);
+  let first = -1;
+  let last = -1;
+  for (let i = lo; i <= hi; i++) {
+    if (sm[i] > thr) {
+      if (first < 0) first = i;
+      last = i;
+    }
+  }
+  if (first < 0) {
+    first = lo;
+    last = hi;
+  }
+  const a = s.positionPx[first];
+  const b = s.positionPx[last];
+  const pad = Math.max(6, 0.01 * (b - a));
+  const fromPx = Math.max(insideFrom, a - pad);
+  const toPx = Math.min(insideTo, b + pad);
+  return { fromPx, toPx, insideFromPx: insideFrom, insideToPx: insideTo, touchesEdge: fromPx <= insideFrom + 0.5 || toPx >= insideTo - 0.5 };
+}
+
+/** Positions (in the band's frame) where its centre line runs inside the image, [from, to]. */
+export function insideRange(band: BandGeometry, width: number, height: number): [number, number] {
+  const f = bandFrame(band);
+  let lo = -Infinity;
+  let hi = Infinity;
+  const clip = (s0: number, d: number, max: number): void => {
+    if (Math.abs(d) < 1e-12) {
+      if (s0 < 0 || s0 > max) {
+        lo = Infinity;
+        hi = -Infinity;
+      }
+      return;
+    }
+    const t0 = (0 - s0) / d;
+    const t1 = (max - s0) / d;
+    lo = Math.max(lo, Math.min(t0, t1));
+    hi = Math.min(hi, Math.max(t0, t1));
+  };
+  clip(f.startX, f.ux, width - 1);
+  clip(f.startY, f.uy, height - 1);
+  if (!(hi > lo)) return [0, band.lengthPx];
+  return [lo, hi];
+}

@@ -1,0 +1,164 @@
+/**
+ * Background flattening of the decimated photo: the ambient light, a gradient and vignetting are removed by a smooth
+ * surface fitted under the data. The image is cut into cells; each cell's 20th percentile is a background sample
+ * (a band, a zero order or a lamp covers a minority of most cells); a quadratic surface in (x, y) is fitted to those
+ * samples by iteratively reweighted least squares with Tukey's biweight (Beaton & Tukey 1974) on residuals scaled
+ * by their MAD, so that cells filled by the band are outvoted. Then the noise of the flattened image is measured.
+ */
+import { linearLeastSquares } from '../../fit/index.js';
+import { selectInPlace } from './select.js';
+
+export interface Flattened {
+  /** Data minus the fitted surface, per plane. */
+  residual: Float32Array[];
+  /** Surface coefficients per plane: c0 + c1 x + c2 y + c3 x² + c4 xy + c5 y² (x, y scaled to [−1, 1]). */
+  surfaces: number[][];
+}
+
+export function flattenBackground(planes: Float32Array[], width: number, height: number): Flattened {
+  const cell = Math.max(4, Math.round(Math.max(width, height) / 10));
+  const cx = Math.ceil(width / cell);
+  const cy = Math.ceil(height / cell);
+  const sx = 2 / Math.max(1, width - 1);
+  const sy = 2 / Math.max(1, height - 1);
+  const residual: Float32Array[] = [];
+  const surfaces: number[][] = [];
+  const scratch = new Float32Array(cell * cell);
+  for (const plane of planes) {
+    const design: number[][] = [];
+    const values: number[] = [];
+    for (let Y = 0; Y < cy; Y++) {
+      for (let X = 0; X < cx; X++) {
+        let n = 0;
+        const x1 = Math.min(width, (X + 1) * cell);
+        const y1 = Math.min(height, (Y + 1) * cell);
+        // Every second pixel each way in cells of 16 px or more: the percentile needs no more.
+        const st = cell >= 16 ? 2 : 1;
+        for (let y = Y * cell; y < y1; y += st) for (let x = X * cell; x < x1; x += st) scratch[n++] = plane[y * width + x];
+        if (n < 4) continue;
+        const v = selectInPlace(scratch, n, Math.floor(0.2 * (n - 1)));
+        const u = ((X * cell + x1 - 1) / 2) * sx - 1;
+        const w = ((Y * cell + y1 - 1) / 2) * sy - 1;
+        design.push([1, u, w, u * u, u * w, w * w]);
+        values.push(v);
+      }
+    }
+    const coef = robustSurface(design, values);
+    surfaces.push(coef);
+    residual.push(subtractSurface(plane, width, height, coef));
+  }
+  return { residual, surfaces };
+}
+
+function subtractSurface(plane: Float32Array, width: number, height: number, coef: number[]): Float32Array {
+  const out = new Float32Array(width * height);
+  const sx = 2 / Math.max(1, width - 1);
+  const sy = 2 / Math.max(1, height - 1);
+  const c0 = +coef[0], c1 = +coef[1], c2 = +coef[2], c3 = +coef[3], c4 = +coef[4], c5 = +coef[5];
+  for (let y = 0; y < height; y++) {
+    const w = y * sy - 1;
+    const rowConst = c0 + c2 * w + c5 * w * w;
+    const rowLin = c1 + c4 * w;
+    for (let x = 0, k = y * width; x < width; x++, k++) {
+      const u = x * sx - 1;
+      out[k] = plane[k] - (rowConst + (rowLin + c3 * u) * u);
+    }
+  }
+  return out;
+}
+
+function robustSurface(design: number[][], values: number[]): number[] {
+  const n = values.length;
+  const k = n >= 12 ? 6 : n >= 3 ? 3 : 1;
+  const rows = design.map((r) => r.slice(0, k));
+  let weights = new Array<number>(n).fill(1);
+  let coef = new Array<number>(k).fill(0);
+  coef[0] = median(values);
+  for (let it = 0; it < 8; it++) {
+    const fit = linearLeastSquares(rows, values, { weights });
+    if (!fit) break;
+    coef = fit.params;
+    const res = fit.residuals;
+    const scale = 1.4826 * median(res.map(Math.abs)) + 1e-12;
+    // Tukey's biweight with c = 4.685 (95 % efficiency at the normal); cells far above the surface (the band) get 0.
+    weights = res.map((r) => {
+      const u = r / (4.685 * scale);
+      return Math.abs(u) < 1 ? (1 - u * u) ** 2 : 0;
+    });
+    if (weights.filter((w) => w > 0).length < k + 1) break;
+  }
+  const out = [0, 0, 0, 0, 0, 0];
+  for (let j = 0; j < k; j++) out[j] = coef[j];
+  return out;
+}
+
+function median(values: number[]): number {
+  const s = [...values].sort((a, b) => a - b);
+  const m = s.length >> 1;
+  return s.length === 0 ? 0 : s.length % 2 ? s[m] : 0.5 * (s[m - 1] + s[m]);
+}
+
+/** 3 × 3 box mean (edges: the mean of what the window holds). */
+export function boxMean3(plane: Float32Array, width: number, height: number): Float32Array {
+  const tmp = new Float32Array(width * height);
+  const out = new Float32Array(width * height);
+  for (let y = 0; y < height; y++) {
+    const r = y * width;
+    for (let x = 0; x < width; x++) {
+      const a = x > 0 ? x - 1 : 0;
+      const b = x < width - 1 ? x + 1 : width - 1;
+      let s = 0;
+      for (let i = a; i <= b; i++) s += plane[r + i];
+      tmp[r + x] = s / (b - a + 1);
+    }
+  }
+  for (let y = 0; y < height; y++) {
+    const a = y > 0 ? y - 1 : 0;
+    const b = y < height - 1 ? y + 1 : height - 1;
+    for (let x = 0; x < width; x++) {
+      let s = 0;
+      for (let i = a; i <= b; i++) s += tmp[i * width + x];
+      out[y * width + x] = s / (b - a + 1);
+    }
+  }
+  return out;
+}
+
+/** Robust σ of a mostly-empty image: 1.4826 · MAD about the median, from a subsample of at most ~60 000 pixels. */
+export function imageSigma(plane: Float32Array): { median: number; sigma: number } {
+  const stride = Math.max(1, Math.floor(plane.length / 60000));
+  const n = Math.floor((plane.length - 1) / stride) + 1;
+  const s = new Float32Array(n);
+  for (let i = 0, k = 0; i < n; i++, k += stride) s[i] = plane[k];
+  const med = selectInPlace(s, n, n >> 1);
+  for (let i = 0; i < n; i++) s[i] = Math.abs(s[i] - med);
+  return { median: med, sigma: 1.4826 * selectInPlace(s, n, n >> 1) };
+}
+
+/**
+ * Detail layer: the image minus its box mean over (2r + 1)², edges by the mean of what the window holds. Smooth glare
+ * and halos vanish from it; line images, the band's edges and compact spots stay. O(pixels) by running sums.
+ */
+export function detailLayer(plane: Float32Array, width: number, height: number, r: number): Float32Array {
+  const tmp = new Float32Array(width * height);
+  const prefix = new Float64Array(Math.max(width, height) + 1);
+  for (let y = 0; y < height; y++) {
+    const row = y * width;
+    for (let x = 0; x < width; x++) prefix[x + 1] = prefix[x] + plane[row + x];
+    for (let x = 0; x < width; x++) {
+      const a = Math.max(0, x - r);
+      const b = Math.min(width, x + r + 1);
+      tmp[row + x] = (prefix[b] - prefix[a]) / (b - a);
+    }
+  }
+  const out = new Float32Array(width * height);
+  for (let x = 0; x < width; x++) {
+    for (let y = 0; y < height; y++) prefix[y + 1] = prefix[y] + tmp[y * width + x];
+    for (let y = 0; y < height; y++) {
+      const a = Math.max(0, y - r);
+      const b = Math.min(height, y + r + 1);
+      out[y * width + x] = plane[y * width + x] - (prefix[b] - prefix[a]) / (b - a);
+    }
+  }
+  return out;
+}

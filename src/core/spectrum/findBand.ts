@@ -1,0 +1,237 @@
+/**
+ * Finds the dispersed band in a photo: its axis angle, the slant of its line images, its centre, length and height.
+ *
+ * Pipeline (coarse to fine, never warping the photo):
+ *  1. block-average to at most `coarseMaxSidePx` (band/decimate.ts) and flatten the ambient light with a robust
+ *     quadratic surface (band/flatten.ts);
+ *  2. threshold, label components and pick the set lying along one line, leaving out glare off the axis and a zero
+ *     order at one end (band/coarse.ts);
+ *  3. refine the axis by a per-column centroid fit and the slant by slab cross-correlation (band/refine.ts), first on
+ *     the decimated image, then at full resolution;
+ *  4. measure the height (FWHM of the cross profile) and the length (where the spectrum rises above the noise)
+ *     (band/extent.ts), and refine once more on the final extent.
+ *
+ * Direction convention: automatic bands have angleDeg in (−90°, 90°], so position grows to the right (downwards for a
+ * vertical band). Which end is blue is not known here; calibration decides and may reverse the band (reverseBand).
+ * Callers with a band of their own skip this and pass their BandGeometry to extractSpectrum.
+ */
+import { assertFinite } from '../errors.js';
+import type { BandGeometry, LinearImage, PointPx } from '../types.js';
+import { type Ambient, ambientFromSurfaces } from './band/ambient.js';
+import { coarseBand } from './band/coarse.js';
+import { decimate } from './band/decimate.js';
+import { insideRange, measureHeight } from './band/extent.js';
+import { flattenBackground } from './band/flatten.js';
+import { foldAxisAngleDeg, imageToBandPx, reverseBand } from './band/frame.js';
+import { refineBand } from './band/refine.js';
+
+export interface FindBandOptions {
+  /** Name of the input in messages ("no spectrum found in <source>"). @default 'the image' */
+  source?: string;
+  /** Detection threshold above the flattened background, in noise σ of the 3 × 3-smoothed coarse image. @default 5 */
+  detectionSigma?: number;
+  /** Smallest signal above the background that counts (linear units, 1 = clipped), whatever the noise. @default 0.003 */
+  minSignal?: number;
+  /** Longest side of the block-averaged image of the coarse search (px). @default 640 */
+  coarseMaxSidePx?: number;
+  /** Axis/slant refinement iterations at full resolution. @default 4 */
+  refineIterations?: number;
+  /** Measure the slant of the line images (else 0°). @default true */
+  measureSlant?: boolean;
+  /** See SampleBandOptions.saturationLevel. @default 0.999 */
+  saturationLevel?: number;
+}
+
+export const FIND_BAND_DEFAULTS = {
+  source: 'the image',
+  detectionSigma: 5,
+  minSignal: 0.003,
+  coarseMaxSidePx: 640,
+  refineIterations: 4,
+  measureSlant: true,
+  saturationLevel: 0.999,
+} as const satisfies Required<FindBandOptions>;
+
+export interface FindBandDiagnostics {
+  /** The coarse estimate before refinement (full-resolution px). */
+  coarse: BandGeometry;
+  /** How the coarse axis was decided. */
+  rule: string;
+  /** Block size of the coarse image. */
+  decimation: number;
+  /** Components above the threshold in the coarse image, and how many make up the band. */
+  components: number;
+  members: number;
+  /** Noise σ and threshold of the coarse image (linear units). */
+  noiseSigma: number;
+  threshold: number;
+  /** The zero order found on the axis and left out of the band, with its position along the final band. */
+  zeroOrder: (PointPx & { positionPx: number }) | null;
+  /** Standard uncertainty of the axis angle from the last centroid fit (deg). */
+  angleUncertaintyDeg: number;
+  /** Standard uncertainty of the slant (deg); null when it could not be measured. */
+  slantUncertaintyDeg: number | null;
+  slantMeasured: boolean;
+  /** Columns that carried enough light for the axis fit. */
+  columnsUsed: number;
+  /** Distance from the half-maximum edge of the cross profile to its 1 % level (px). */
+  wingPx: number;
+  /** The band's cross profile (background subtracted, summed along the band) at its final geometry. */
+  crossProfile: { offsetPx: Float64Array; value: Float64Array };
+  /** The band reaches the image edge at one end (the spectrum may continue outside). */
+  touchesEdge: boolean;
+}
+
+export interface FoundBand {
+  band: BandGeometry;
+  warnings: string[];
+  /** Extraction settings suited to this band's cross profile (pass them to extractSpectrum). */
+  extraction: { objectMarginPx: number };
+  diagnostics: FindBandDiagnostics;
+}
+
+/** Locates the dispersed band; throws InputError "no spectrum found in <source>" when nothing stands out. */
+export function findBand(image: LinearImage, options: FindBandOptions = {}): FoundBand {
+  const d = FIND_BAND_DEFAULTS;
+  const source = options.source ?? d.source;
+  const detectionSigma = options.detectionSigma ?? d.detectionSigma;
+  const minSignal = options.minSignal ?? d.minSignal;
+  const coarseMaxSidePx = options.coarseMaxSidePx ?? d.coarseMaxSidePx;
+  const refineIterations = options.refineIterations ?? d.refineIterations;
+  const measureSlant = options.measureSlant ?? d.measureSlant;
+  const saturationLevel = options.saturationLevel ?? d.saturationLevel;
+  assertFinite('detectionSigma', detectionSigma, 1);
+  assertFinite('minSignal', minSignal, 0);
+  assertFinite('coarseMaxSidePx', coarseMaxSidePx, 32);
+  assertFinite('refineIterations', refineIterations, 1, 50);
+  assertFinite('saturationLevel', saturationLevel, 0);
+  const warnings: string[] = [];
+
+  // 1–2. Coarse search.
+  const factor = Math.max(1, Math.ceil(Math.max(image.width, image.height) / coarseMaxSidePx));
+  const dec = decimate(image, factor, saturationLevel);
+  const flat = flattenBackground(dec.planes, dec.width, dec.height);
+  const coarse = coarseBand(dec, flat.residual, { detectionSigma, minSignal, source });
+
+  // 3. Refinement on the decimated luminance, then at full resolution.
+  const f = factor;
+  const toDec = (b: BandGeometry): BandGeometry => ({
+    ...b,
+    center: { x: (b.center.x - (f - 1) / 2) / f, y: (b.center.y - (f - 1) / 2) / f },
+    lengthPx: b.lengthPx / f,
+    heightPx: b.heightPx / f,
+  });
+  const toFull = (b: BandGeometry): BandGeometry => ({
+    ...b,
+    center: { x: f * b.center.x + (f - 1) / 2, y: f * b.center.y + (f - 1) / 2 },
+    lengthPx: b.lengthPx * f,
+    heightPx: b.heightPx * f,
+  });
+  const ambient = ambientFromSurfaces(flat.surfaces, dec.width, dec.height, f);
+  let band = coarse.band;
+  // The slant counts as measured when any stage measured it (the last may lack the rows for it in a short band).
+  let slantSeen = false;
+  if (f > 1) {
+    const small: LinearImage = { width: dec.width, height: dec.height, channels: 1, data: coarse.luminance };
+    const coarseRefined = refineBand(small, toDec(band), { iterations: 4, slant: measureSlant });
+    slantSeen ||= coarseRefined.report.slantMeasured;
+    let b = coarseRefined.band;
+    b = withHeight(small, b);
+    band = toFull(b);
+  }
+  band = withMemberExtent(band, coarse.memberEnds, image.width, image.height);
+  let refined = refineBand(image, band, { iterations: refineIterations, slant: measureSlant, ambient });
+  slantSeen ||= refined.report.slantMeasured;
+  band = withHeight(image, refined.band, ambient);
+  band = withMemberExtent(band, coarse.memberEnds, image.width, image.height);
+  refined = refineBand(image, band, { iterations: 2, slant: measureSlant, ambient });
+  slantSeen ||= refined.report.slantMeasured;
+  band = refined.band;
+  const height = measureHeight(image, band, ambient);
+  band = shiftAcross(band, height.centreOffsetPx, height.heightPx);
+  band = withMemberExtent(band, coarse.memberEnds, image.width, image.height);
+  const [inFrom, inTo] = insideRange(band, image.width, image.height);
+  const touchesEdge = inFrom >= -0.5 || inTo <= band.lengthPx + 0.5;
+
+  // 4. Direction convention.
+  if (foldAxisAngleDeg(band.angleDeg) !== band.angleDeg) band = reverseBand(band);
+  band = { ...band, angleDeg: foldAxisAngleDeg(band.angleDeg) };
+
+  if (!slantSeen) {
+    if (measureSlant) warnings.push('slant of the line images not measurable (no sharp lines in the band): 0° assumed');
+    band = { ...band, slantDeg: 0 };
+  }
+  if (coarse.zeroOrder) {
+    warnings.push(`zero order at (${coarse.zeroOrder.x.toFixed(0)}, ${coarse.zeroOrder.y.toFixed(0)}) px left out of the band`);
+  }
+  if (touchesEdge) warnings.push('the band reaches the edge of the image: the spectrum may continue outside it');
+  if (band.heightPx < 20 || band.heightPx > 500) {
+    warnings.push(`band height ${band.heightPx.toFixed(0)} px is outside the tested range 20–500 px`);
+  }
+  return {
+    band,
+    warnings,
+    extraction: { objectMarginPx: Math.max(3, Math.ceil(height.wingPx + 1)) },
+    diagnostics: {
+      coarse: coarse.band,
+      rule: coarse.rule,
+      decimation: f,
+      components: coarse.components,
+      members: coarse.members,
+      noiseSigma: coarse.noiseSigma,
+      threshold: coarse.threshold,
+      zeroOrder: coarse.zeroOrder ? { ...coarse.zeroOrder, positionPx: imageToBandPx(band, coarse.zeroOrder).positionPx } : null,
+      angleUncertaintyDeg: refined.report.angleUncertaintyDeg,
+      slantUncertaintyDeg: refined.report.slantUncertaintyDeg,
+      slantMeasured: slantSeen,
+      columnsUsed: refined.report.columnsUsed,
+      wingPx: height.wingPx,
+      crossProfile: height.profile,
+      touchesEdge,
+    },
+  };
+}
+
+/** The band with its height measured and its centre moved onto the cross profile's half-maximum midpoint. */
+function withHeight(image: LinearImage, band: BandGeometry, ambient?: Ambient): BandGeometry {
+  const m = measureHeight(image, band, ambient);
+  return shiftAcross(band, m.centreOffsetPx, m.heightPx);
+}
+
+function shiftAcross(band: BandGeometry, offsetPx: number, heightPx: number): BandGeometry {
+  const a = (band.angleDeg * Math.PI) / 180;
+  return {
+    ...band,
+    heightPx,
+    center: { x: band.center.x - offsetPx * Math.sin(a), y: band.center.y + offsetPx * Math.cos(a) },
+  };
+}
+
+/**
+ * The band cut to the extent of its coarse components along the (refined) axis, padded by max(6 px, 1 %) and kept
+ * inside the image. The components come from the detail layer, so glare beside the band does not lengthen it, and
+ * the zero order is not among them.
+ */
+function withMemberExtent(band: BandGeometry, ends: PointPx[], width: number, height: number): BandGeometry {
+  let lo = Infinity;
+  let hi = -Infinity;
+  for (const pt of ends) {
+    const p = imageToBandPx(band, pt).positionPx;
+    lo = Math.min(lo, p);
+    hi = Math.max(hi, p);
+  }
+  if (!(hi > lo)) return band;
+  const pad = Math.max(6, 0.01 * (hi - lo));
+  const [inFrom, inTo] = insideRange(band, width, height);
+  return setExtent(band, Math.max(inFrom, lo - pad), Math.min(inTo, hi + pad));
+}
+
+function setExtent(band: BandGeometry, fromPx: number, toPx: number): BandGeometry {
+  const a = (band.angleDeg * Math.PI) / 180;
+  const mid = 0.5 * (fromPx + toPx) - band.lengthPx / 2;
+  return {
+    ...band,
+    lengthPx: Math.max(2, toPx - fromPx),
+    center: { x: band.center.x + mid * Math.cos(a), y: band.center.y + mid * Math.sin(a) },
+  };
+}
