@@ -371,16 +371,18 @@ function findZeroOrder(members: Component[], ux: number, uy: number, along: (c: 
     // wide gap parts it from the rest. Two points are needed, so a lone line beyond a wide gap (Hα) stays.
     let points = 0;
     if (colour) {
+      // Colours from unclipped pixels where there are any (clipping whitens the core of a bright image).
+      const own = (r: Component): number[] => (r.colourUnclipped.some((v) => v > 0) ? r.colourUnclipped : r.colour);
       const sum = [0, 0, 0];
-      for (const r of rest) for (let k = 0; k < 3; k++) sum[k] += Math.max(0, r.colour[k]);
+      for (const r of rest) for (let k = 0; k < 3; k++) sum[k] += Math.max(0, own(r)[k]);
       const chroma = (v: number[]): number[] => {
         const t = Math.max(1e-12, Math.max(0, v[0]) + Math.max(0, v[1]) + Math.max(0, v[2]));
         return v.map((x) => Math.max(0, x) / t);
       };
-      const a = chroma(c.colour);
+      const a = chroma(own(c));
       const b = chroma(sum);
       const dist = Math.max(...a.map((x, k) => Math.abs(x - b[k])));
-      const white = c.clippedPixels >= 0.2 * c.area && Math.min(...a) >= 0.22;
+      const white = c.clippedPixels >= 0.2 * c.area && Math.min(...chroma(c.colour)) >= 0.22;
       if (dist <= 0.12 || white) points++;
     }
     const ax = principalAxes(c);

@@ -18,6 +18,8 @@ export interface Component {
   syy: number;
   /** Σ of each plane's signal over the component (colour). */
   colour: number[];
+  /** The same over the pixels that are not clipped (the true colour of a clipped image is in its wings). */
+  colourUnclipped: number[];
   /** Largest signal. */
   peak: number;
   /** Pixels with clipped data. */
@@ -80,7 +82,23 @@ export function labelComponents(
     }
   }
   const index = new Map<number, number>();
-  const acc: { n: number; w: number; x: number; y: number; xx: number; xy: number; yy: number; col: number[]; peak: number; clip: number; minX: number; maxX: number; minY: number; maxY: number }[] = [];
+  const acc: {
+    n: number;
+    w: number;
+    x: number;
+    y: number;
+    xx: number;
+    xy: number;
+    yy: number;
+    col: number[];
+    colU: number[];
+    peak: number;
+    clip: number;
+    minX: number;
+    maxX: number;
+    minY: number;
+    maxY: number;
+  }[] = [];
   const np = planes.length;
   for (let y = 0; y < height; y++) {
     for (let x = 0; x < width; x++) {
@@ -91,7 +109,23 @@ export function labelComponents(
       if (c === undefined) {
         c = acc.length;
         index.set(root, c);
-        acc.push({ n: 0, w: 0, x: 0, y: 0, xx: 0, xy: 0, yy: 0, col: new Array<number>(np).fill(0), peak: -Infinity, clip: 0, minX: x, maxX: x, minY: y, maxY: y });
+        acc.push({
+          n: 0,
+          w: 0,
+          x: 0,
+          y: 0,
+          xx: 0,
+          xy: 0,
+          yy: 0,
+          col: new Array<number>(np).fill(0),
+          colU: new Array<number>(np).fill(0),
+          peak: -Infinity,
+          clip: 0,
+          minX: x,
+          maxX: x,
+          minY: y,
+          maxY: y,
+        });
       }
       const a = acc[c];
       const w = weight[k];
@@ -103,6 +137,7 @@ export function labelComponents(
       a.xy += w * x * y;
       a.yy += w * y * y;
       for (let p = 0; p < np; p++) a.col[p] += planes[p][k];
+      if (clipped[k] === 0) for (let p = 0; p < np; p++) a.colU[p] += planes[p][k];
       if (w > a.peak) a.peak = w;
       if (clipped[k] > 0) a.clip++;
       if (x < a.minX) a.minX = x;
@@ -132,6 +167,7 @@ export function labelComponents(
         sxy: a.xy / a.w - cx * cy,
         syy: Math.max(0, a.yy / a.w - cy * cy) + 1 / 12,
         colour: a.col,
+        colourUnclipped: a.colU,
         peak: a.peak,
         clippedPixels: a.clip,
         minX: a.minX,
