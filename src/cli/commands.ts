@@ -2,6 +2,7 @@ import type { Command } from 'commander';
 import { registerServe } from './serve.js';
 import { registerGrating } from './grating.js';
 import { registerPolarization } from './polarization.js';
+import { registerSpectrum } from './spectrum.js';
 import { registerModes } from './modes.js';
 
 /** Every CLI command registers itself here; one file per command in this folder. */
@@ -9,5 +10,6 @@ export const commands: Array<(program: Command) => void> = [
   registerServe,
   registerGrating,
   registerPolarization,
+  registerSpectrum,
   registerModes,
 ];

@@ -1,0 +1,119 @@
+import { execFileSync } from 'node:child_process';
+import { writeFileSync } from 'node:fs';
+import path from 'node:path';
+import { fileURLToPath } from 'node:url';
+import sharp from 'sharp';
+import { analyseSpectrumInput } from '../src/tasks/spectrum.js';
+import type { MemoryProbeResult } from './memoryProbe.js';
+import { type BenchFigure, type BenchSection, median } from './section.js';
+import { renderSpectroscopePhoto } from '../src/core/render/index.js';
+import { encodeRenderedPhoto } from '../src/io/writeRenderedPhoto.js';
+
+/** Timed runs of each task (after one warm-up); the median is reported. */
+const RUNS = 7;
+
+/**
+ * `glowprint spectrum` on a 12-MP JPEG: time of the whole pipeline (decode + band + extraction + peaks) as a ratio to
+ * the floor, sharp's own decode of the same file to raw RGB measured in the same run, and peak memory as a multiple
+ * of the decoded RGB size (width × height × 3 bytes).
+ */
+export const spectrumSection: BenchSection = {
+  name: 'spectrum: 12-MP JPEG → peak table',
+  async run(ctx) {
+    ctx.log('rendering a 4000×3000 spectroscope photo (the project renderer, ~10 s)…');
+    const { widthPx, heightPx, jpeg } = await benchPhoto();
+    const file = path.join(ctx.workDir, 'spectrum-12mp.jpg');
+    writeFileSync(file, jpeg);
+    const rgbBytes = widthPx * heightPx * 3;
+    ctx.log(`  ${(jpeg.length / 1e6).toFixed(1)} MB JPEG; timing ${RUNS} runs each, interleaved…`);
+
+    const floor = async (): Promise<void> => {
+      await sharp(file).raw().toBuffer();
+    };
+    let peaks = 0;
+    const stageMs: Record<string, number[]> = {};
+    const pipeline = async (): Promise<void> => {
+      const onStage = (stage: string, ms: number): void => void (stageMs[stage] ??= []).push(ms);
+      peaks = (await analyseSpectrumInput(file, { onStage })).analysis.peaks.length;
+    };
+    await floor();
+    await pipeline();
+    const floorMs: number[] = [];
+    const pipelineMs: number[] = [];
+    for (let k = 0; k < RUNS; k++) {
+      // Interleaved, so that load from other processes on the machine falls on both alike.
+      floorMs.push(await timeMs(floor));
+      pipelineMs.push(await timeMs(pipeline));
+    }
+    const floorMedian = median(floorMs);
+    const pipelineMedian = median(pipelineMs);
+
+    ctx.log('  peak memory, each in a fresh process…');
+    const floorMem = probe('floor', file);
+    const pipeMem = probe('pipeline', file);
+    const growth = (m: MemoryProbeResult): number => Math.max(0, m.peakRssBytes - m.baselineRssBytes);
+    const mb = (b: number): string => `${(b / 1e6).toFixed(0)} MB`;
+    return [
+      {
+        name: 'time, spectrum pipeline ÷ sharp decode',
+        value: pipelineMedian / floorMedian,
+        unit: '×',
+        target: 2.0,
+        kind: 'max',
+        detail:
+          `median of ${RUNS}: pipeline ${pipelineMedian.toFixed(0)} ms (${peaks} peaks; ` +
+          Object.entries(stageMs)
+            .map(([stage, ms]) => `${stage} ${median(ms).toFixed(0)}`)
+            .join(', ') +
+          ` ms), sharp(file).raw().toBuffer() ${floorMedian.toFixed(0)} ms`,
+      },
+      {
+        name: 'peak memory, spectrum pipeline ÷ decoded RGB size',
+        value: growth(pipeMem) / rgbBytes,
+        unit: '×',
+        target: 3.0,
+        kind: 'max',
+        detail:
+          `RSS growth ${mb(growth(pipeMem))} over a ${mb(pipeMem.baselineRssBytes)} start-up baseline (${pipeMem.method}); ` +
+          `decoded RGB ${mb(rgbBytes)}; sharp decode alone ${mb(growth(floorMem))} = ${(growth(floorMem) / rgbBytes).toFixed(2)}×`,
+      },
+    ] satisfies BenchFigure[];
+  },
+};
+
+/**
+ * Mercury and neon lines (air wavelengths, nm, from memory of the NIST tables; their exact values do not matter here:
+ * the photo is a load for timing, not a check), tilted 2.5°, a phone-like 26-mm lens behind a 1000 lines/mm grating.
+ */
+const BENCH_LINES: Array<[number, number]> = [
+  [404.66, 0.5], [435.83, 1.2], [546.07, 2.0], [576.96, 0.35], [579.07, 0.4], [585.25, 0.6], [588.19, 0.25],
+  [594.48, 0.3], [609.62, 0.3], [614.31, 0.45], [616.36, 0.2], [621.73, 0.2], [626.65, 0.3], [633.44, 0.35],
+  [638.3, 0.4], [640.22, 0.7], [650.65, 0.45], [659.9, 0.25], [667.83, 0.3], [692.95, 0.2],
+];
+
+async function benchPhoto(): Promise<{ widthPx: number; heightPx: number; jpeg: Buffer }> {
+  const widthPx = 4000;
+  const heightPx = 3000;
+  const rendered = renderSpectroscopePhoto({
+    widthPx,
+    heightPx,
+    seed: 2024,
+    band: { angleDeg: 2.5, slantDeg: 0.8, heightPx: 110, rangeNm: [400, 700] },
+    source: { lines: BENCH_LINES.map(([wavelengthNm, intensity]) => ({ wavelengthNm, intensity })) },
+  });
+  const jpeg = await encodeRenderedPhoto(rendered.image, { format: { kind: 'jpeg', quality: 92 }, exif: { model: 'bench', exposureTimeS: 0.05, isoSpeed: 200 } });
+  return { widthPx, heightPx, jpeg };
+}
+
+async function timeMs(task: () => Promise<void>): Promise<number> {
+  (globalThis as { gc?: () => void }).gc?.();
+  const t0 = performance.now();
+  await task();
+  return performance.now() - t0;
+}
+
+function probe(mode: 'floor' | 'pipeline', file: string): MemoryProbeResult {
+  const script = path.join(path.dirname(fileURLToPath(import.meta.url)), 'memoryProbe.js');
+  const out = execFileSync(process.execPath, ['--expose-gc', script, mode, file], { encoding: 'utf8', stdio: ['ignore', 'pipe', 'inherit'] });
+  return JSON.parse(out.trim().split('\n').pop()!) as MemoryProbeResult;
+}

@@ -1,0 +1,327 @@
+/**
+ * The `spectrum` task: photo or CSV → 1-D spectrum → peak table, with its text, CSV and SVG renderings. The CLI (and
+ * any other front end) only parses arguments, calls analyseSpectrumInput and prints or writes what it returns.
+ */
+import { promises as fs } from 'node:fs';
+import path from 'node:path';
+import { InputError } from '../core/errors.js';
+import { findBand } from '../core/spectrum/findBand.js';
+import { type ExtractSpectrumOptions, extractSpectrum } from '../core/spectrum/extract.js';
+import { findPeaksDetailed, peaksToWavelength } from '../core/spectrum/peaks/index.js';
+import { plotSpectrumSvg } from '../core/spectrum/plotSpectrum.js';
+import type { BandGeometry, Peak, Spectrum } from '../core/types.js';
+import { decodeImage, type ExifSummary } from '../io/image.js';
+import { readSpectrumCsv } from '../io/readSpectrumCsv.js';
+import { sniffKind } from '../io/sniff.js';
+import { createSvgDocument } from '../io/svgDocument.js';
+
+/** What `glowprint spectrum` measures, before printing: the same object the --json output shows (in snake_case). */
+export interface SpectrumAnalysis {
+  input: SpectrumInputSummary;
+  /** Where the band lies in the upright photo; null for a CSV spectrum. */
+  band: BandSummary | null;
+  spectrum: { samples: number; saturatedSamples: number; noise: number; threshold: number };
+  peaks: Peak[];
+  warnings: string[];
+}
+
+export type BandSummary = BandGeometry & {
+  source: 'found' | 'manual';
+  /** Standard uncertainties of a found band's axis angle and slant (deg). */
+  angleUncertaintyDeg?: number;
+  slantUncertaintyDeg?: number | null;
+};
+
+export interface SpectrumInputSummary {
+  file: string;
+  kind: 'photo' | 'csv';
+  /** CSV input: whether the file's position axis is pixels or wavelengths. */
+  axis?: 'pixel' | 'wavelength';
+  widthPx?: number;
+  heightPx?: number;
+  bitDepth?: 8 | 16;
+  format?: string;
+  /** EXIF orientation found in the file (already applied). */
+  orientation?: number;
+  exif?: ExifSummary;
+  darkFile?: string;
+}
+
+export interface AnalyseSpectrumOptions {
+  dark?: string;
+  band?: BandGeometry;
+  maxPixels?: number;
+  /** Transfer function of the pixel values; by default 8-bit is sRGB and 16-bit linear. */
+  transfer?: 'srgb' | 'linear';
+  /** Called after each stage with its wall time (the benchmark's breakdown). */
+  onStage?: (stage: 'decode' | 'band' | 'extract' | 'peaks', ms: number) => void;
+}
+
+/** The spectrum with its analysis, for the CSV and SVG outputs. */
+export interface SpectrumRun {
+  analysis: SpectrumAnalysis;
+  spectrum: Spectrum;
+}
+
+const IMAGE_EXTENSIONS = new Set(['.jpg', '.jpeg', '.png', '.tif', '.tiff', '.webp']);
+const CSV_EXTENSIONS = new Set(['.csv', '.tsv', '.txt', '.dat']);
+
+/** Photo or CSV → spectrum → peak table: decodeImage → findBand (or the manual band) → extractSpectrum → findPeaks. */
+export async function analyseSpectrumInput(file: string, options: AnalyseSpectrumOptions = {}): Promise<SpectrumRun> {
+  const kind = await inputKind(file);
+  if (kind === 'csv') {
+    if (options.band || options.dark) {
+      throw new InputError(`${file}: --band and --dark apply to photos; this input is a CSV spectrum`, file);
+    }
+    return analyseCsv(file);
+  }
+  const clock = stageClock(options.onStage);
+  const decoded = await decodeImage(file, {
+    source: file,
+    dark: options.dark,
+    maxPixels: options.maxPixels,
+    srgb8: options.transfer === undefined ? undefined : options.transfer === 'srgb',
+    linear16: options.transfer === undefined ? undefined : options.transfer === 'linear',
+  });
+  clock('decode');
+  const warnings = [...decoded.warnings];
+  let band: BandGeometry;
+  let bandSource: 'found' | 'manual';
+  let uncertainties: Pick<BandSummary, 'angleUncertaintyDeg' | 'slantUncertaintyDeg'> = {};
+  let extraction: ExtractSpectrumOptions = {};
+  if (options.band) {
+    band = options.band;
+    bandSource = 'manual';
+    warnings.push(...checkBandInside(band, decoded.widthPx, decoded.heightPx));
+  } else {
+    const found = namingFile(file, () => findBand(decoded.image, { source: file }));
+    band = found.band;
+    bandSource = 'found';
+    extraction = found.extraction;
+    uncertainties = { angleUncertaintyDeg: found.diagnostics.angleUncertaintyDeg, slantUncertaintyDeg: found.diagnostics.slantUncertaintyDeg };
+    warnings.push(...found.warnings);
+  }
+  clock('band');
+  const extracted = namingFile(file, () => extractSpectrum(decoded.image, band, extraction));
+  clock('extract');
+  const spectrum = extracted.spectrum;
+  warnings.push(...extracted.warnings);
+  const search = namingFile(file, () => findPeaksDetailed(spectrum));
+  clock('peaks');
+  warnings.push(...search.warnings);
+  const analysis: SpectrumAnalysis = {
+    input: {
+      file,
+      kind: 'photo',
+      widthPx: decoded.widthPx,
+      heightPx: decoded.heightPx,
+      bitDepth: decoded.bitDepth,
+      format: decoded.format,
+      orientation: decoded.orientation,
+      exif: decoded.exif,
+      darkFile: options.dark,
+    },
+    band: { ...band, source: bandSource, ...uncertainties },
+    spectrum: summarise(spectrum, search.noise, search.threshold),
+    peaks: search.peaks,
+    warnings,
+  };
+  return { analysis, spectrum };
+}
+
+async function analyseCsv(file: string): Promise<SpectrumRun> {
+  const table = await readSpectrumCsv(file, { source: file });
+  const spectrum = table.spectrum;
+  const search = findPeaksDetailed(spectrum);
+  const peaks = spectrum.wavelengthNm ? peaksToWavelength(search.peaks, spectrum) : search.peaks;
+  return {
+    spectrum,
+    analysis: {
+      input: { file, kind: 'csv', axis: table.axis },
+      band: null,
+      spectrum: summarise(spectrum, search.noise, search.threshold),
+      peaks,
+      warnings: [...table.warnings, ...search.warnings],
+    },
+  };
+}
+
+function stageClock(onStage: AnalyseSpectrumOptions['onStage']): (stage: 'decode' | 'band' | 'extract' | 'peaks') => void {
+  let t = performance.now();
+  return (stage) => {
+    const now = performance.now();
+    onStage?.(stage, now - t);
+    t = now;
+  };
+}
+
+/** Core stages do not know the file: their bad-input messages get its name in front. */
+function namingFile<T>(file: string, stage: () => T): T {
+  try {
+    return stage();
+  } catch (err) {
+    if (err instanceof InputError && !err.message.includes(file)) throw new InputError(`${file}: ${err.message}`, file);
+    throw err;
+  }
+}
+
+function summarise(spectrum: Spectrum, noise: number, threshold: number): SpectrumAnalysis['spectrum'] {
+  let saturatedSamples = 0;
+  if (spectrum.saturated) for (const s of spectrum.saturated) saturatedSamples += s;
+  return { samples: spectrum.intensity.length, saturatedSamples, noise, threshold };
+}
+
+/** By extension first (a .jpg holding text is a broken photo, not a CSV), else by the first bytes. */
+async function inputKind(file: string): Promise<'photo' | 'csv'> {
+  const ext = path.extname(file).toLowerCase();
+  if (IMAGE_EXTENSIONS.has(ext)) return 'photo';
+  if (CSV_EXTENSIONS.has(ext)) return 'csv';
+  const handle = await fs.open(file, 'r');
+  try {
+    const head = Buffer.alloc(4096);
+    const { bytesRead } = await handle.read(head, 0, head.length, 0);
+    return sniffKind(head.subarray(0, bytesRead)) === 'text' ? 'csv' : 'photo';
+  } finally {
+    await handle.close();
+  }
+}
+
+/**
+ * `--band cx,cy,angleDeg,lengthPx,heightPx[,slantDeg]`: centre (px, upright photo, x right, y down), direction in which
+ * position grows (deg from +x towards +y), length along it and height across it (px), slant of the line images.
+ */
+export function parseBandOption(text: string): BandGeometry {
+  const parts = text.split(',').map((s) => s.trim());
+  const values = parts.map(Number);
+  if ((parts.length !== 5 && parts.length !== 6) || parts.some((s) => s === '') || values.some((v) => !Number.isFinite(v))) {
+    throw new InputError(`--band: expected 5 or 6 numbers "cx,cy,angleDeg,lengthPx,heightPx[,slantDeg]", got ${JSON.stringify(text)}`, '--band');
+  }
+  const [cx, cy, angleDeg, lengthPx, heightPx, slantDeg = 0] = values;
+  if (lengthPx < 5) throw new InputError(`--band: lengthPx must be at least 5 px, got ${lengthPx}`, '--band');
+  if (heightPx < 1) throw new InputError(`--band: heightPx must be at least 1 px, got ${heightPx}`, '--band');
+  if (Math.abs(slantDeg) >= 45) throw new InputError(`--band: slantDeg must lie between −45 and 45, got ${slantDeg}`, '--band');
+  // Normalise the direction into (−180, 180].
+  let angle = ((angleDeg % 360) + 360) % 360;
+  if (angle > 180) angle -= 360;
+  return { center: { x: cx, y: cy }, angleDeg: angle, lengthPx, heightPx, slantDeg };
+}
+
+function checkBandInside(band: BandGeometry, widthPx: number, heightPx: number): string[] {
+  const { x, y } = band.center;
+  if (!(x >= 0 && x <= widthPx - 1 && y >= 0 && y <= heightPx - 1)) {
+    throw new InputError(`--band: centre (${x}, ${y}) lies outside the ${widthPx}×${heightPx} px photo`, '--band');
+  }
+  const a = (band.angleDeg * Math.PI) / 180;
+  const ux = Math.cos(a);
+  const uy = Math.sin(a);
+  const corners = [
+    [-1, -1],
+    [-1, 1],
+    [1, -1],
+    [1, 1],
+  ].map(([s, t]) => ({
+    x: x + (s * band.lengthPx * ux) / 2 - (t * band.heightPx * uy) / 2,
+    y: y + (s * band.lengthPx * uy) / 2 + (t * band.heightPx * ux) / 2,
+  }));
+  const outside = corners.some((c) => c.x < 0 || c.y < 0 || c.x > widthPx - 1 || c.y > heightPx - 1);
+  return outside ? ['the manual band reaches beyond the photo; samples outside it are missing from the spectrum'] : [];
+}
+
+/** The spectrum as CSV: one row per sample (`position_px,intensity,r,g,b,saturated`, then `wavelength_nm` if known). */
+export function spectrumToCsv(spectrum: Spectrum): string {
+  const n = spectrum.intensity.length;
+  const wl = spectrum.wavelengthNm;
+  const ch = spectrum.channels;
+  const lines = [`position_px,intensity,r,g,b,saturated${wl ? ',wavelength_nm' : ''}`];
+  const num = (v: number | undefined): string => (v === undefined || !Number.isFinite(v) ? '' : String(Number(v.toPrecision(7))));
+  for (let i = 0; i < n; i++) {
+    const row = [
+      num(spectrum.positionPx[i]),
+      num(spectrum.intensity[i]),
+      num(ch?.r[i]),
+      num(ch?.g[i]),
+      num(ch?.b[i]),
+      spectrum.saturated ? String(spectrum.saturated[i]) : '',
+    ];
+    if (wl) row.push(num(wl[i]));
+    lines.push(row.join(','));
+  }
+  return lines.join('\n') + '\n';
+}
+
+/** The readable report: input, band geometry, then the peak table. */
+export function formatSpectrumTable(a: SpectrumAnalysis): string {
+  const out: string[] = [];
+  const i = a.input;
+  if (i.kind === 'photo') {
+    const exif = i.exif ?? {};
+    const bits = [
+      `${i.widthPx}×${i.heightPx} px`,
+      `${i.bitDepth}-bit ${i.format?.toUpperCase()}`,
+      exif.exposureTimeS !== undefined ? `${formatExposure(exif.exposureTimeS)}` : undefined,
+      exif.iso !== undefined ? `ISO ${exif.iso}` : undefined,
+      exif.cameraModel,
+      i.darkFile ? `dark frame ${i.darkFile} subtracted` : undefined,
+    ].filter(Boolean);
+    out.push(`${i.file}: ${bits.join(', ')}`);
+  } else {
+    out.push(`${i.file}: 1-D spectrum, ${a.spectrum.samples} samples`);
+  }
+  if (a.band) {
+    const b = a.band;
+    out.push(
+      `band (${b.source === 'manual' ? 'given' : 'found'}): angle ${b.angleDeg.toFixed(2)}°${pm(b.angleUncertaintyDeg)}, ` +
+        `slant ${b.slantDeg.toFixed(2)}°${pm(b.slantUncertaintyDeg)}, ` +
+        `centre (${b.center.x.toFixed(1)}, ${b.center.y.toFixed(1)}) px, length ${b.lengthPx.toFixed(0)} px, height ${b.heightPx.toFixed(0)} px`,
+    );
+  }
+  out.push(
+    `spectrum: ${a.spectrum.samples} samples${a.spectrum.saturatedSamples ? `, ${a.spectrum.saturatedSamples} clipped` : ''}; ` +
+      `noise σ ${fmt(a.spectrum.noise)}, detection threshold ${fmt(a.spectrum.threshold)}`,
+  );
+  const withWl = a.peaks.some((p) => p.wavelengthNm !== undefined);
+  if (a.peaks.length === 0) {
+    out.push('no peaks above the detection threshold');
+    return out.join('\n') + '\n';
+  }
+  const header = ['#', 'position (px)', ...(withWl ? ['wavelength (nm)'] : []), 'FWHM (px)', 'height', 'SNR', 'flags'];
+  const rows = a.peaks.map((p, k) => [
+    String(k + 1),
+    `${p.positionPx.toFixed(2)} ± ${p.positionUncertaintyPx.toFixed(2)}`,
+    ...(withWl ? [p.wavelengthNm !== undefined ? `${p.wavelengthNm.toFixed(3)} ± ${(p.wavelengthUncertaintyNm ?? NaN).toFixed(3)}` : ''] : []),
+    p.fwhmPx.toFixed(2),
+    fmt(p.height),
+    p.snr >= 100 ? p.snr.toFixed(0) : p.snr.toFixed(1),
+    [p.saturated ? 'saturated' : '', p.blended ? 'blended' : ''].filter(Boolean).join(' '),
+  ]);
+  const widths = header.map((h, c) => Math.max(h.length, ...rows.map((r) => r[c].length)));
+  const line = (cells: string[]): string =>
+    cells
+      .map((cell, c) => (c === cells.length - 1 ? cell : c === 0 ? cell.padStart(widths[c]) : cell.padStart(widths[c])))
+      .join('  ')
+      .trimEnd();
+  out.push('', line(header), ...rows.map(line));
+  out.push('', `${a.peaks.length} peak${a.peaks.length === 1 ? '' : 's'}; positions along the band from its start, uncertainties 1σ`);
+  return out.join('\n') + '\n';
+}
+
+function pm(u: number | null | undefined): string {
+  if (u === undefined || u === null || !Number.isFinite(u)) return '';
+  return ` ± ${u >= 0.01 ? u.toFixed(2) : u.toPrecision(1)}°`;
+}
+
+function fmt(v: number): string {
+  if (!Number.isFinite(v)) return 'n/a';
+  if (v === 0) return '0';
+  const a = Math.abs(v);
+  return a >= 1000 || a < 0.001 ? v.toExponential(2) : v.toPrecision(4);
+}
+
+function formatExposure(s: number): string {
+  return s < 1 ? `1/${Math.round(1 / s)} s` : `${s} s`;
+}
+
+/** The plot of a run as SVG text (peaks marked). */
+export function spectrumSvg(run: SpectrumRun): string {
+  return plotSpectrumSvg(run.spectrum, run.analysis.peaks, { document: createSvgDocument(), title: `Spectrum of ${path.basename(run.analysis.input.file)}` });
+}
