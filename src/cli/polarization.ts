@@ -1,7 +1,7 @@
 import type { Command } from 'commander';
 import { ANALYSER_CALIBRATION_DEFAULTS, TIME_SERIES_DEFAULTS, VERDICT_DEFAULTS } from '../core/polarization/index.js';
 import { LASER_CAUTION } from '../core/safety.js';
-import { runPolarization, UsageError, type PolarizationOptions } from '../tasks/polarization.js';
+import { runPolarization, type PolarizationOptions } from '../tasks/polarization.js';
 import { action, note, printJson } from './run.js';
 
 export function registerPolarization(program: Command): void {
@@ -63,17 +63,11 @@ Safety:
     )
     .action(
       action(async (images: string[], opts: PolarizationOptions & { json?: boolean }) => {
-        try {
-          const run = await runPolarization(images, opts);
-          if (opts.json) printJson(run.json);
-          else {
-            process.stdout.write(run.text);
-            for (const w of run.warnings) note(`warning: ${w}`);
-          }
-        } catch (err) {
-          if (!(err instanceof UsageError)) throw err;
-          note(`glowprint polarization: ${err.message} (run with --help for usage)`);
-          process.exitCode = 2;
+        const run = await runPolarization(images, opts);
+        if (opts.json) printJson(run.json);
+        else {
+          process.stdout.write(run.text);
+          for (const w of run.warnings) note(`warning: ${w}`);
         }
       }),
     );

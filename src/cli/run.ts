@@ -1,5 +1,5 @@
 import { CommanderError } from 'commander';
-import { InputError, parseNumberOption } from '../core/errors.js';
+import { InputError, parseNumberOption, UsageError } from '../core/errors.js';
 import { toSnakeCase } from '../core/json/toSnakeCase.js';
 
 /** Prints a core result as the one JSON object of the machine-output contract (snake_case keys, units in names). */
@@ -23,6 +23,11 @@ export function action<A extends unknown[]>(fn: (...args: A) => Promise<void> | 
     } catch (err) {
       // Usage mistakes found inside an action (cmd.error) go on to main, which exits 2.
       if (err instanceof CommanderError) throw err;
+      if (err instanceof UsageError) {
+        note(`glowprint: ${err.message} (run with --help for usage)`);
+        process.exitCode = 2;
+        return;
+      }
       if (err instanceof InputError) {
         note(`glowprint: ${err.message}`);
         process.exitCode = 1;

@@ -12,6 +12,11 @@ export class InputError extends Error {
   }
 }
 
+/** A mistake in how a command was called (a missing or conflicting option): exit code 2, unlike bad input (1). */
+export class UsageError extends Error {
+  override readonly name = 'UsageError';
+}
+
 /** Shows a received value briefly and unambiguously in a message. */
 export function describeValue(value: unknown): string {
   if (typeof value === 'string') return JSON.stringify(value.length > 60 ? value.slice(0, 57) + '...' : value);

@@ -1,6 +1,6 @@
 import { readFile } from 'node:fs/promises';
 import path from 'node:path';
-import { InputError, parseNumberOption as numberOption } from '../core/errors.js';
+import { InputError, parseNumberOption as numberOption, UsageError } from '../core/errors.js';
 import {
   MALUS_FIT_DEFAULTS,
   analyseRotatingAnalyser,
@@ -56,9 +56,6 @@ export interface PolarizationOptions {
   svg?: string;
 }
 
-/** A mistake in how the command was called (exit 2), as opposed to bad measurements (exit 1). */
-export class UsageError extends Error {}
-
 function usage(message: string): never {
   throw new UsageError(message);
 }
@@ -71,7 +68,7 @@ export interface PolarizationRun {
 }
 
 /**
- * The polarization measurement behind \`glowprint polarization\` and the API: options as the command takes them (strings,
+ * The polarization measurement behind `glowprint polarization` and the API: options as the command takes them (strings,
  * as flags and form fields arrive). Writes the --svg and --out files it is asked for, atomically.
  */
 export async function runPolarization(images: string[], opts: PolarizationOptions): Promise<PolarizationRun> {
@@ -161,6 +158,7 @@ export async function runPolarization(images: string[], opts: PolarizationOption
     await writeAnalyserProfile(opts.out!, file, inputs);
     const allWarnings = [...warnings, ...cal.warnings];
     const json = {
+        command: 'polarization-analyser',
         profileFile: opts.out,
         offsetDeg: cal.profile.offsetDeg,
         offsetUncertaintyDeg: cal.profile.offsetUncertaintyDeg,
@@ -261,7 +259,7 @@ export async function runPolarization(images: string[], opts: PolarizationOption
     ...(ts ? { timeSeries: ts, interpretation } : {}),
     warnings,
   };
-  return { json: output, text: formatText(result, ts, interpretation, photometry), warnings };
+  return { json: { command: 'polarization', ...output }, text: formatText(result, ts, interpretation, photometry), warnings };
 }
 
 /** Points for the JSON: the photo's file name, or the table line. */
