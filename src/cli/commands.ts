@@ -5,7 +5,6 @@ import { registerGrating } from './grating.js';
 import { registerPolarization } from './polarization.js';
 import { registerSpectrum } from './spectrum.js';
 import { registerModes } from './modes.js';
-import { registerReport } from './report.js';
 
 /** Every CLI command registers itself here; one file per command in this folder. */
 export const commands: Array<(program: Command) => void> = [
@@ -15,5 +14,4 @@ export const commands: Array<(program: Command) => void> = [
   registerPolarization,
   registerSpectrum,
   registerModes,
-  registerReport,
 ];
