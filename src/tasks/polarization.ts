@@ -158,7 +158,7 @@ export async function runPolarization(images: string[], opts: PolarizationOption
     await writeAnalyserProfile(opts.out!, file, inputs);
     const allWarnings = [...warnings, ...cal.warnings];
     const json = {
-        command: 'polarization-analyser',
+        command: 'polarization',
         profileFile: opts.out,
         offsetDeg: cal.profile.offsetDeg,
         offsetUncertaintyDeg: cal.profile.offsetUncertaintyDeg,
