@@ -34,7 +34,7 @@ export interface FindBandOptions {
   minSignal?: number;
   /** Longest side of the block-averaged image of the coarse search (px). @default 640 */
   coarseMaxSidePx?: number;
-  /** Axis/slant refinement iterations at full resolution. @default 4 */
+  /** Axis/slant refinement iterations at full resolution (it stops earlier once converged). @default 3 */
   refineIterations?: number;
   /** Measure the slant of the line images (else 0°). @default true */
   measureSlant?: boolean;
@@ -47,7 +47,7 @@ export const FIND_BAND_DEFAULTS = {
   detectionSigma: 5,
   minSignal: 0.003,
   coarseMaxSidePx: 640,
-  refineIterations: 4,
+  refineIterations: 3,
   measureSlant: true,
   saturationLevel: 0.999,
 } as const satisfies Required<FindBandOptions>;

@@ -6,8 +6,24 @@ import type { SampledBand } from '../sampleBand.js';
 import { bandFrame } from './frame.js';
 import type { BandGeometry } from '../../types.js';
 
-/** Ambient level (mean of the channels) at a full-resolution point. */
-export type Ambient = (x: number, y: number) => number;
+/**
+ * Ambient level (mean of the channels) at full-resolution point (x, y): a quadratic c0 + c1 u + c2 w + c3 u² + c4 uw +
+ * c5 w² in u = ax·x + bx, w = ay·y + by.
+ */
+export interface Ambient {
+  c: number[];
+  ax: number;
+  bx: number;
+  ay: number;
+  by: number;
+}
+
+export function ambientAt(a: Ambient, x: number, y: number): number {
+  const u = a.ax * x + a.bx;
+  const w = a.ay * y + a.by;
+  const c = a.c;
+  return c[0] + c[1] * u + c[2] * w + c[3] * u * u + c[4] * u * w + c[5] * w * w;
+}
 
 /** From the per-plane quadratic surfaces of a decimated image (block size `factor`) of `width` × `height` blocks. */
 export function ambientFromSurfaces(surfaces: number[][], width: number, height: number, factor: number): Ambient {
@@ -17,11 +33,8 @@ export function ambientFromSurfaces(surfaces: number[][], width: number, height:
   const sx = 2 / Math.max(1, width - 1);
   const sy = 2 / Math.max(1, height - 1);
   const off = (factor - 1) / 2;
-  return (x, y) => {
-    const u = ((x - off) / factor) * sx - 1;
-    const w = ((y - off) / factor) * sy - 1;
-    return c[0] + c[1] * u + c[2] * w + c[3] * u * u + c[4] * u * w + c[5] * w * w;
-  };
+  // u = ((x − off)/factor)·sx − 1
+  return { c, ax: sx / factor, bx: (-off / factor) * sx - 1, ay: sy / factor, by: (-off / factor) * sy - 1 };
 }
 
 /** Subtracts the ambient level from plane 0 of a sampled band, in place. */
@@ -29,12 +42,19 @@ export function subtractAmbient(s: SampledBand, band: BandGeometry, ambient: Amb
   const f = bandFrame(band);
   const plane = s.planes[0];
   const R = s.rows;
+  const { ax, bx, ay, by } = ambient;
+  const [c0, c1, c2, c3, c4, c5] = ambient.c;
+  const valid = s.valid;
+  const q = s.offsetPx;
   for (let i = 0; i < s.columns; i++) {
     const p = s.positionPx[i];
+    const x0 = f.startX + p * f.ux;
+    const y0 = f.startY + p * f.uy;
     for (let j = 0, k = i * R; j < R; j++, k++) {
-      if (!s.valid[k]) continue;
-      const q = s.offsetPx[j];
-      plane[k] -= ambient(f.startX + p * f.ux + q * f.vx, f.startY + p * f.uy + q * f.vy);
+      if (!valid[k]) continue;
+      const u = ax * (x0 + q[j] * f.vx) + bx;
+      const w = ay * (y0 + q[j] * f.vy) + by;
+      plane[k] -= c0 + (c1 + c3 * u + c4 * w) * u + (c2 + c5 * w) * w;
     }
   }
 }

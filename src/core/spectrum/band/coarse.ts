@@ -64,27 +64,21 @@ interface Hypothesis {
 export function coarseBand(dec: Decimated, residual: Float32Array[], options: CoarseOptions): CoarseBand {
   const { width: w, height: h, factor: f } = dec;
   const np = residual.length;
-  const lum = new Float32Array(w * h);
-  for (const plane of residual) for (let k = 0; k < w * h; k++) lum[k] += plane[k] / np;
+  const lum = meanOfPlanes(residual, w * h);
   // Detection on the detail layer (glare and halos broader than ~25 coarse px removed), 3 × 3-smoothed.
   const detailRadius = Math.max(4, Math.round(Math.max(w, h) / 50));
   const s3 = boxMean3(detailLayer(lum, w, h, detailRadius), w, h);
   const { median, sigma } = imageSigma(s3);
   const threshold = median + Math.max(options.detectionSigma * sigma, options.minSignal);
   const mask = new Uint8Array(w * h);
-  let any = 0;
-  for (let k = 0; k < w * h; k++) if (s3[k] >= threshold) any += mask[k] = 1;
+  const any = thresholdMask(s3, threshold, mask);
   if (any < 2) throw noSpectrum(options.source, s3, median, sigma);
-
   // Weight of a pixel: its signal above the background, capped at the 90th percentile of the detected pixels so that a
   // saturated zero order or lamp does not outweigh the band by its brightness alone.
-  const detected = new Float32Array(any);
-  for (let k = 0, n = 0; k < w * h; k++) if (mask[k]) detected[n++] = s3[k] - median;
-  const cap = selectInPlace(detected, any, Math.floor(0.9 * (any - 1)));
-  const weight = new Float32Array(w * h);
-  for (let k = 0; k < w * h; k++) if (mask[k]) weight[k] = Math.min(s3[k] - median, cap);
+  const weight = cappedWeights(s3, mask, any, median);
   const { components: all, labels } = labelComponents(mask, w, h, weight, residual, dec.clipped);
-  const maxWeight = Math.max(...all.map((c) => c.weight));
+  let maxWeight = 0;
+  for (const c of all) if (c.weight > maxWeight) maxWeight = c.weight;
   const comps = all.filter((c) => c.area >= 2 && c.weight >= 0.002 * maxWeight);
   if (comps.length === 0) throw noSpectrum(options.source, s3, median, sigma);
   const order = comps.map((_, i) => i).sort((a, b) => comps[b].weight - comps[a].weight);
@@ -408,4 +402,31 @@ function weightedMedian(items: { v: number; w: number }[]): number {
     if (acc >= total / 2) return it.v;
   }
   return s[s.length - 1]?.v ?? 0;
+}
+
+function meanOfPlanes(planes: Float32Array[], n: number): Float32Array {
+  const out = new Float32Array(n);
+  const inv = 1 / planes.length;
+  for (const plane of planes) for (let k = 0; k < n; k++) out[k] += plane[k] * inv;
+  return out;
+}
+
+function thresholdMask(values: Float32Array, threshold: number, mask: Uint8Array): number {
+  let any = 0;
+  for (let k = 0; k < values.length; k++) {
+    if (values[k] >= threshold) {
+      mask[k] = 1;
+      any++;
+    }
+  }
+  return any;
+}
+
+function cappedWeights(values: Float32Array, mask: Uint8Array, count: number, level: number): Float32Array {
+  const detected = new Float32Array(count);
+  for (let k = 0, n = 0; k < values.length; k++) if (mask[k]) detected[n++] = values[k] - level;
+  const cap = selectInPlace(detected, count, Math.floor(0.9 * (count - 1)));
+  const weight = new Float32Array(values.length);
+  for (let k = 0; k < values.length; k++) if (mask[k]) weight[k] = Math.min(values[k] - level, cap);
+  return weight;
 }

@@ -81,7 +81,7 @@ export function labelComponents(
       labels[k] = l;
     }
   }
-  const index = new Map<number, number>();
+  const index = new Int32Array(parent.length).fill(-1);
   const acc: {
     n: number;
     w: number;
@@ -105,10 +105,10 @@ export function labelComponents(
       const k = y * width + x;
       if (labels[k] < 0) continue;
       const root = find(labels[k]);
-      let c = index.get(root);
-      if (c === undefined) {
+      let c = index[root];
+      if (c < 0) {
         c = acc.length;
-        index.set(root, c);
+        index[root] = c;
         acc.push({
           n: 0,
           w: 0,
@@ -151,7 +151,7 @@ export function labelComponents(
   const renumber = new Int32Array(acc.length).fill(-1);
   let next = 0;
   for (let c = 0; c < acc.length; c++) if (keep[c]) renumber[c] = next++;
-  for (let k = 0; k < labels.length; k++) if (labels[k] >= 0) labels[k] = renumber[index.get(find(labels[k]))!];
+  for (let k = 0; k < labels.length; k++) if (labels[k] >= 0) labels[k] = renumber[index[find(labels[k])]];
   const components = acc
     .filter((a) => a.w > 0)
     .map((a) => {

@@ -15,7 +15,7 @@ import { linearLeastSquares } from '../../fit/index.js';
 import type { BandGeometry, LinearImage } from '../../types.js';
 import { columnBackground } from '../extraction/background.js';
 import { neighbourSigma } from '../extraction/profile.js';
-import { sampleBand } from '../sampleBand.js';
+import { type SampledBand, sampleBand } from '../sampleBand.js';
 import { type Ambient, subtractAmbient } from './ambient.js';
 import { bandFrame } from './frame.js';
 
@@ -42,29 +42,33 @@ export interface RefineOptions {
 
 export function refineBand(image: LinearImage, start: BandGeometry, options: RefineOptions): { band: BandGeometry; report: RefineReport } {
   let band = { ...start, center: { ...start.center } };
+  let buffer: SampledBand | undefined;
   const report: RefineReport = { iterations: 0, angleUncertaintyDeg: NaN, slantUncertaintyDeg: null, columnsUsed: 0, slantMeasured: false };
   for (let it = 0; it < options.iterations; it++) {
     report.iterations++;
-    const s = bandSamples(image, band, options.ambient);
+    // One sampling per iteration: the slant is measured in the same frame as the axis, and both corrections are
+    // applied together (the centroid fit does not depend on the slant to first order, nor the slab shifts on the axis).
+    const s = bandSamples(image, band, options.ambient, buffer);
     if (!s) break;
+    buffer = s.sampled;
+    const slant = options.slant ? fitSlant(s, band) : null;
     const axis = fitAxis(s, band);
     let changed = 0;
     if (axis) {
       report.angleUncertaintyDeg = axis.angleUncertaintyDeg;
       report.columnsUsed = axis.columns;
-      const turn = axis.band.angleDeg - band.angleDeg;
-      changed = Math.abs(turn);
-      band = axis.band;
+      changed = Math.abs(axis.band.angleDeg - band.angleDeg);
     }
-    if (options.slant) {
-      const s2 = axis ? bandSamples(image, band, options.ambient) : s;
-      const slant = s2 ? fitSlant(s2, band) : null;
-      if (slant) {
-        changed = Math.max(changed, Math.abs(slant.slantDeg - band.slantDeg));
-        band = { ...band, slantDeg: slant.slantDeg };
-        report.slantUncertaintyDeg = slant.uncertaintyDeg;
-        report.slantMeasured = true;
-      }
+    if (slant) {
+      // Slant measured relative to the old axis; the axis turn moves the line images' reference by −turn.
+      const turn = axis ? axis.band.angleDeg - band.angleDeg : 0;
+      const slantDeg = slant.slantDeg - turn;
+      changed = Math.max(changed, Math.abs(slant.slantDeg - band.slantDeg));
+      band = { ...(axis ? axis.band : band), slantDeg };
+      report.slantUncertaintyDeg = slant.uncertaintyDeg;
+      report.slantMeasured = true;
+    } else if (axis) {
+      band = axis.band;
     }
     if (changed < 0.002) break;
   }
@@ -80,21 +84,24 @@ interface BandSamples {
   data: Float32Array;
   /** 1 where every object row of the column lies inside the image. */
   complete: Uint8Array;
+  /** The raw samples (reused as the next iteration's buffer). */
+  sampled: SampledBand;
   objRows: number;
   objOffsetPx: Float64Array;
   stepPx: number;
 }
 
 /** Samples the band (object rows ± margin, off-band rows on both sides) and subtracts the background. */
-function bandSamples(image: LinearImage, band: BandGeometry, ambient: Ambient | undefined): BandSamples | null {
+function bandSamples(image: LinearImage, band: BandGeometry, ambient: Ambient | undefined, reuse?: SampledBand): BandSamples | null {
   const H = band.heightPx;
   const margin = Math.min(30, Math.max(3, 0.2 * H));
   const gap = 2;
   const bgWidth = Math.min(25, Math.max(5, 0.25 * H));
   const objHalf = H / 2 + margin;
-  const rowStepPx = Math.max(1, H / 120);
+  // Rows every H/60 px: the centroid and the slab sums need the band's shape across, not every pixel row.
+  const rowStepPx = Math.max(1, H / 60);
   const stepPx = Math.max(1, band.lengthPx / 3000);
-  const s = sampleBand(image, band, { halfWidthPx: objHalf + gap + bgWidth, rowStepPx, stepPx, combine: true });
+  const s = sampleBand(image, band, { halfWidthPx: objHalf + gap + bgWidth, rowStepPx, stepPx, combine: true, out: reuse });
   if (ambient) subtractAmbient(s, band, ambient);
   const R = s.rows;
   const N = s.columns;
@@ -129,7 +136,7 @@ function bandSamples(image: LinearImage, band: BandGeometry, ambient: Ambient | 
     }
     complete[i] = all;
   }
-  return { columns: N, rows: M, positionPx: s.positionPx, offsetPx: q, data, complete, objRows: M, objOffsetPx: q.slice(j0, j1 + 1), stepPx };
+  return { columns: N, rows: M, positionPx: s.positionPx, offsetPx: q, data, complete, objRows: M, objOffsetPx: q.slice(j0, j1 + 1), stepPx, sampled: s };
 }
 
 /** The per-column centroid fit; returns the band turned onto the fitted centre line (line images kept in place). */
