@@ -5,6 +5,9 @@ import { registerGrating } from './grating.js';
 import { registerPolarization } from './polarization.js';
 import { registerSpectrum } from './spectrum.js';
 import { registerModes } from './modes.js';
+import { registerReport } from './report.js';
+import { registerCalibrate } from './calibrate.js';
+import { registerIdentify } from './identify.js';
 
 /** Every CLI command registers itself here; one file per command in this folder. */
 export const commands: Array<(program: Command) => void> = [
@@ -14,4 +17,7 @@ export const commands: Array<(program: Command) => void> = [
   registerPolarization,
   registerSpectrum,
   registerModes,
+  registerReport,
+  registerCalibrate,
+  registerIdentify,
 ];

@@ -74,7 +74,7 @@ function parseJsonLines(file: string, text: string, wholeFileError: string): Loa
       const last = lines.slice(i + 1).every((l) => l.trim() === '') && !text.endsWith('\n');
       if (last && sawObject) continue;
       throw new InputError(
-        sawObject ? `${file}: line ${i + 1} is not valid JSON` : `${file}: not valid JSON (${wholeFileError})`,
+        sawObject ? `${file}: line ${i + 1} is not valid JSON` : `${file}: not valid JSON (${oneLine(wholeFileError)}); expected the JSON a glowprint command printed with --json`,
         file,
       );
     }
@@ -108,4 +108,10 @@ function introFor(files: readonly string[], n: number): string {
   const names = files.map((f) => path.basename(f));
   const shown = names.length > 4 ? `${names.slice(0, 3).join(', ')} and ${names.length - 3} more` : names.join(', ');
   return `${n} ${n === 1 ? 'result' : 'results'} from ${shown}.`;
+}
+
+/** A parser's message on one short line (it may quote the text, newlines and all). */
+function oneLine(message: string): string {
+  const m = message.replace(/\s+/g, ' ').trim();
+  return m.length > 100 ? m.slice(0, 97) + '…' : m;
 }
