@@ -90,6 +90,13 @@ export const EXTRACT_SPECTRUM_DEFAULTS = {
   saturationLevel: 0.999,
 } as const satisfies Omit<Required<ExtractSpectrumOptions>, 'reuse'>;
 
+/**
+ * A lighter setting for live frames: one pass (no outlier rejection: a video frame has no cosmic rays worth the time,
+ * and the noise model is fitted on the box spectrum). Combine with `objectMarginPx` from findBand and a reused
+ * sampling buffer (sampleBand `out` + extractSampledBand).
+ */
+export const EXTRACT_LIVE_OPTIONS = { iterations: 1, maxRejectionsPerColumn: 0 } as const satisfies ExtractSpectrumOptions;
+
 export interface PlaneNoise {
   /** Read noise σ (image units) of one resampled pixel. */
   readNoise: number;
@@ -258,7 +265,14 @@ function extractFromSamples(s: SampledBand, o: Resolved): ExtractedSpectrum {
   if (!o.background) warnings.push('background not subtracted (background: none)');
   else if (!sides.negative && !sides.positive) warnings.push('no off-band rows inside the image: background not subtracted');
   else if (!sides.negative || !sides.positive) warnings.push('off-band rows on one side only: background taken as flat across the band');
-  const noiseOff = offBandNoise(s.planes, bg, s.valid, N, R, q, low, high);
+  // The channel mean of every sample (one pass; the noise statistics and the object rows read it).
+  let combined = s.planes[0];
+  if (colour) {
+    combined = new Float32Array(N * R);
+    const [p0, p1, p2] = s.planes;
+    for (let k = 0; k < N * R; k++) combined[k] = (p0[k] + p1[k] + p2[k]) * (1 / 3);
+  }
+  const noiseOff = offBandNoise(combined, bg, s.valid, N, R, q, low, high);
   const rowCorrelation = clampCorrelation(noiseOff.rowCorrelation);
   const columnCorrelation = clampCorrelation(noiseOff.columnCorrelation);
   // The background's own noise: each side's level is a mean over its rows and a running mean over `smooth` columns.
@@ -290,8 +304,6 @@ function extractFromSamples(s: SampledBand, o: Resolved): ExtractedSpectrum {
   const mask = new Uint8Array(N * M);
   const box = new Float64Array(N);
   {
-    const [p0, p1, p2] = colour ? s.planes : [s.planes[0], s.planes[0], s.planes[0]];
-    const scale = 1 / 3; // p0 + p1 + p2: the channel mean, or 3 × the grey plane
     const valid = s.valid;
     const { base, slope } = bg;
     for (let i = 0; i < N; i++) {
@@ -301,7 +313,7 @@ function extractFromSamples(s: SampledBand, o: Resolved): ExtractedSpectrum {
       for (let j = 0, k = i * M, ks = i * R + jo0; j < M; j++, k++, ks++) {
         if (!valid[ks]) continue;
         mask[k] = 1;
-        const d = (p0[ks] + p1[ks] + p2[ks]) * scale - (b0 + qObj[j] * s0);
+        const d = combined[ks] - (b0 + qObj[j] * s0);
         data[k] = d;
         f += d;
       }
@@ -336,9 +348,9 @@ function extractFromSamples(s: SampledBand, o: Resolved): ExtractedSpectrum {
   const combScale = colour ? 1 / 3 : 1;
   let noise = startModel(noiseOff.variance, combScale);
   const sample = new ResidualSample(8000);
-  const fitted = (planes: Float32Array[], b: ColumnBackground, flux: Float64Array, start: NoiseModel, scale: number): NoiseModel => {
+  const fitted = (plane: Float32Array, b: ColumnBackground, flux: Float64Array, start: NoiseModel, scale: number): NoiseModel => {
     if (!auto) return start;
-    collectResiduals(sample, planes, b, flux, profile, mask, s, layout, low, high);
+    collectResiduals(sample, plane, b, flux, profile, mask, s, layout, low, high);
     return fitNoiseModel(sample, start, {
       readVariance: fixedRead !== undefined ? fixedRead * scale : undefined,
       shotPerUnit: fixedShot !== undefined ? fixedShot * scale : undefined,
@@ -354,11 +366,11 @@ function extractFromSamples(s: SampledBand, o: Resolved): ExtractedSpectrum {
     iterations++;
     const newly = optimalPass(data, bg, profile, mask, s.saturated, layout, prior, noise, flux, o.clipSigma, o.profileTolerance, o.maxRejectionsPerColumn);
     rejected += newly;
-    if (it === 0) noise = fitted(s.planes, bg, flux, noise, combScale);
+    if (it === 0) noise = fitted(combined, bg, flux, noise, combScale);
     prior.set(flux);
     if (newly === 0 && it > 0) break;
   }
-  if (iterations === 1) noise = fitted(s.planes, bg, prior, noise, combScale); // a single pass: fit on the box spectrum
+  if (iterations === 1) noise = fitted(combined, bg, prior, noise, combScale); // a single pass: fit on the box spectrum
   const variance = new Float64Array(N);
   const weights = new Float32Array(N * M);
   const saturated = new Uint8Array(N);
@@ -375,9 +387,9 @@ function extractFromSamples(s: SampledBand, o: Resolved): ExtractedSpectrum {
     channelFluxes(s.planes, bgs, weights, layout, fluxes);
     const channelTerms: VarianceTerms[] = [];
     for (let c = 0; c < 3; c++) {
-      const off = offBandNoise([s.planes[c]], bgs[c], s.valid, N, R, q, low, high, 6000);
+      const off = offBandNoise(s.planes[c], bgs[c], s.valid, N, R, q, low, high, 6000);
       channelTerms.push(termsFor(off));
-      channelNoise.push(fitted([s.planes[c]], bgs[c], fluxes[c], startModel(off.variance, 1), 1));
+      channelNoise.push(fitted(s.planes[c], bgs[c], fluxes[c], startModel(off.variance, 1), 1));
     }
     channelVariances(bgs, profile, weights, mask, layout, channelNoise, fluxes, channelTerms, variances);
     channels = { r: fluxes[0], g: fluxes[1], b: fluxes[2] };
@@ -448,11 +460,11 @@ function columnScatter(data: Float32Array, valid: Uint8Array, M: number, N: numb
 /**
  * Pairs (model level, residual) for the noise fit, from a subsample of columns: the object rows after the fit
  * (residual scaled by √(M/(M−1)) for the one parameter fitted per column; clipped and masked samples left out) and
- * the off-band rows. `planes` are averaged (the channel mean) or a single channel.
+ * the off-band rows, of one plane (a channel or the channel mean).
  */
 function collectResiduals(
   sample: ResidualSample,
-  planes: Float32Array[],
+  plane: Float32Array,
   bg: ColumnBackground,
   flux: Float64Array,
   profile: Float32Array,
@@ -467,27 +479,21 @@ function collectResiduals(
   const perColumn = M + Math.max(0, low[1] - low[0] + 1) + Math.max(0, high[1] - high[0] + 1);
   const stride = Math.max(1, Math.ceil((N * perColumn) / sample.level.length));
   const dof = M > 1 ? Math.sqrt(M / (M - 1)) : 1;
-  const np = planes.length;
-  const inv = 1 / np;
   for (let i = 0; i < N; i += stride) {
     const b0 = bg.base[i];
     const s0 = bg.slope[i];
     const f = flux[i];
     for (let j = 0, k = i * M, ks = i * R + firstRow; j < M; j++, k++, ks++) {
       if (!mask[k] || s.saturated[ks]) continue;
-      let v = 0;
-      for (let c = 0; c < np; c++) v += planes[c][ks];
       const level = b0 + qObj[j] * s0;
       const model = f * profile[k];
-      sample.add(level + model, (v * inv - level - model) * dof);
+      sample.add(level + model, (plane[ks] - level - model) * dof);
     }
     for (const [from, to] of [low, high]) {
       for (let j = from, ks = i * R + from; j <= to; j++, ks++) {
         if (!s.valid[ks] || s.saturated[ks]) continue;
-        let v = 0;
-        for (let c = 0; c < np; c++) v += planes[c][ks];
         const level = b0 + s.offsetPx[j] * s0;
-        sample.add(level, v * inv - level);
+        sample.add(level, plane[ks] - level);
       }
     }
   }

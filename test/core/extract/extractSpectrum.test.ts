@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { InputError } from '../../../src/core/errors.js';
-import { extractSampledBand, extractSpectrum, extractionHalfWidthPx } from '../../../src/core/spectrum/extract.js';
+import { EXTRACT_LIVE_OPTIONS, extractSampledBand, extractSpectrum, extractionHalfWidthPx } from '../../../src/core/spectrum/extract.js';
 import { sampleBand } from '../../../src/core/spectrum/sampleBand.js';
 import type { BandGeometry, LinearImage } from '../../../src/core/types.js';
 import { srgbDecodeTable } from '../../../src/core/units/srgb.js';
@@ -215,6 +215,12 @@ describe('extractSpectrum(image, band, options)', () => {
     expect(again).toBe(buffer);
     const live = extractSampledBand(again, b);
     expect(Array.from(live.spectrum.intensity)).toEqual(Array.from(first.spectrum.intensity));
+    // The one-pass live setting agrees with the full extraction to within the noise where there is no outlier.
+    const quick = extractSampledBand(again, b, EXTRACT_LIVE_OPTIONS);
+    for (let i = 0; i < first.spectrum.intensity.length; i++) {
+      const sd = Math.sqrt(first.spectrum.variance[i]);
+      expect(Math.abs(quick.spectrum.intensity[i] - first.spectrum.intensity[i])).toBeLessThanOrEqual(0.5 * sd);
+    }
   });
 
   it('warns and reports infinite variance where the band leaves the image', () => {

@@ -78,7 +78,7 @@ export interface OffBandNoise {
   sumColumnCorrelation: number;
 }
 
-/** Robust mean square of (x_i − x_{i+lag}) about its mean, over pairs where both are complete; null below 20 pairs. */
+/** Robust mean square of (x_i − x_{i+lag}) about its mean, over pairs where both are complete; null below 12 pairs. */
 function diffSquares(x: Float64Array, ok: Uint8Array, lag: number): number | null {
   const d = new Float64Array(x.length);
   let m = 0;
@@ -88,18 +88,18 @@ function diffSquares(x: Float64Array, ok: Uint8Array, lag: number): number | nul
     d[m] = x[i] - x[i + lag];
     mean += d[m++];
   }
-  if (m < 20) return null;
+  if (m < 12) return null;
   mean /= m;
   for (let i = 0; i < m; i++) d[i] = (d[i] - mean) ** 2;
   return robustMeanSquare(d, m);
 }
 
 /**
- * Noise of the off-band samples of the mean of `planes` about `bg`, from a subsample of columns (at most about
- * `maxSamples` samples for the per-sample statistics).
+ * Noise of the off-band samples of `plane` about `bg`, from a subsample of columns (at most about `maxSamples` samples
+ * for the per-sample statistics).
  */
 export function offBandNoise(
-  planes: Float32Array[],
+  plane: Float32Array,
   bg: { base: Float64Array; slope: Float64Array },
   valid: Uint8Array,
   columns: number,
@@ -113,13 +113,6 @@ export function offBandNoise(
   if (perColumn === 0) return { variance: NaN, rowCorrelation: 0, columnCorrelation: 0, sumFactor: 1, sumColumnCorrelation: 0 };
   const stride = Math.max(1, Math.ceil((columns * perColumn) / maxSamples));
   const squares = new Float64Array(Math.ceil(columns / stride) * perColumn);
-  const np = planes.length;
-  const inv = 1 / np;
-  const value = (k: number): number => {
-    let v = 0;
-    for (let c = 0; c < np; c++) v += planes[c][k];
-    return v * inv;
-  };
   let n = 0;
   let rowNum = 0, rowDen = 0, colNum = 0, colDen = 0;
   for (let i = 0; i < columns; i += stride) {
@@ -131,7 +124,7 @@ export function offBandNoise(
           prev = NaN;
           continue;
         }
-        const r = value(k) - (bg.base[i] + offsetPx[j] * bg.slope[i]);
+        const r = plane[k] - (bg.base[i] + offsetPx[j] * bg.slope[i]);
         squares[n++] = r * r;
         if (prev === prev) {
           rowNum += r * prev;
@@ -139,7 +132,7 @@ export function offBandNoise(
         }
         prev = r;
         if (next && valid[k + rows]) {
-          const r2 = value(k + rows) - (bg.base[i + 1] + offsetPx[j] * bg.slope[i + 1]);
+          const r2 = plane[k + rows] - (bg.base[i + 1] + offsetPx[j] * bg.slope[i + 1]);
           colNum += r * r2;
           colDen += 0.5 * (r * r + r2 * r2);
         }
@@ -154,23 +147,29 @@ export function offBandNoise(
   let acc1 = 0;
   let accRows = 0;
   let sides = 0;
+  // Row sums of the columns in groups (i, i+1, i+2), one group in every `every` columns (the statistic needs a few
+  // hundred groups, not all of them).
+  const groups = Math.floor(columns / 3);
+  const every = Math.max(1, Math.floor(groups / 300)) * 3;
   for (const [from, to] of [low, high]) {
     const k = to - from + 1;
     if (k < 2 || columns < 24) continue;
     const sums = new Float64Array(columns);
     const ok = new Uint8Array(columns);
-    for (let i = 0; i < columns; i++) {
-      let b = 0;
-      let all = 1;
-      for (let j = from, kk = i * rows + from; j <= to; j++, kk++) {
-        if (!valid[kk]) {
-          all = 0;
-          break;
+    for (let g = 0; g + 2 < columns; g += every) {
+      for (let i = g; i < g + 3; i++) {
+        let b = 0;
+        let all = 1;
+        for (let kk = i * rows + from, e = i * rows + to; kk <= e; kk++) {
+          if (!valid[kk]) {
+            all = 0;
+            break;
+          }
+          b += plane[kk];
         }
-        b += value(kk);
+        sums[i] = b;
+        ok[i] = all;
       }
-      sums[i] = b;
-      ok[i] = all;
     }
     const lag2 = diffSquares(sums, ok, 2);
     const lag1 = diffSquares(sums, ok, 1);

@@ -222,7 +222,7 @@ export function channelFluxes(
   }
 }
 
-/** var f_c = c Σ w² V_c + the background's share, for the three channels, each with its own noise model. */
+/** var f_c = c Σ w² V_c + the background's share, for the three channels in one pass, each with its own noise model. */
 export function channelVariances(
   bgs: LinearBackground[],
   profile: Float32Array,
@@ -235,33 +235,33 @@ export function channelVariances(
   variances: Float64Array[],
 ): void {
   const { columns: N, rows: M, offsetPx: q } = layout;
-  for (let c = 0; c < 3; c++) {
-    const share = terms[c].background.lowShare;
-    const cf = terms[c].sumFactor;
-    const { base, slope } = bgs[c];
-    const flux = fluxes[c];
-    const out = variances[c];
-    const v0 = noise[c].readVariance;
-    const shot = noise[c].shotPerUnit;
-    for (let i = 0; i < N; i++) {
-      const f = flux[i];
-      const b0 = base[i];
-      const s0 = slope[i];
-      let w2v = 0;
-      let sw = 0;
-      let swa = 0;
-      let any = 0;
-      for (let j = 0, k = i * M; j < M; j++, k++) {
-        const w = weights[k];
-        any |= mask[k];
-        const level = b0 + q[j] * s0 + f * profile[k];
-        const V = v0 + (level > 0 ? level * shot : 0);
-        w2v += w * w * V;
-        sw += w;
-        swa += w * share[j];
-      }
-      out[i] = any ? cf * w2v + backgroundTerm(terms[c].background, swa, sw) : Infinity;
+  const share = terms[0].background.lowShare;
+  const [n0, n1, n2] = noise;
+  const [b0, b1, b2] = bgs;
+  for (let i = 0; i < N; i++) {
+    const f0 = fluxes[0][i];
+    const f1 = fluxes[1][i];
+    const f2 = fluxes[2][i];
+    let v0 = 0, v1 = 0, v2 = 0, sw = 0, swa = 0;
+    let any = 0;
+    for (let j = 0, k = i * M; j < M; j++, k++) {
+      const w = weights[k];
+      any |= mask[k];
+      if (w === 0) continue;
+      const P = profile[k];
+      const w2 = w * w;
+      const l0 = b0.base[i] + q[j] * b0.slope[i] + f0 * P;
+      const l1 = b1.base[i] + q[j] * b1.slope[i] + f1 * P;
+      const l2 = b2.base[i] + q[j] * b2.slope[i] + f2 * P;
+      v0 += w2 * (n0.readVariance + (l0 > 0 ? l0 * n0.shotPerUnit : 0));
+      v1 += w2 * (n1.readVariance + (l1 > 0 ? l1 * n1.shotPerUnit : 0));
+      v2 += w2 * (n2.readVariance + (l2 > 0 ? l2 * n2.shotPerUnit : 0));
+      sw += w;
+      swa += w * share[j];
     }
+    variances[0][i] = any ? terms[0].sumFactor * v0 + backgroundTerm(terms[0].background, swa, sw) : Infinity;
+    variances[1][i] = any ? terms[1].sumFactor * v1 + backgroundTerm(terms[1].background, swa, sw) : Infinity;
+    variances[2][i] = any ? terms[2].sumFactor * v2 + backgroundTerm(terms[2].background, swa, sw) : Infinity;
   }
 }
 
