@@ -1,0 +1,164 @@
+import { InputError } from '../errors.js';
+import { focalLengthPxFrom35mm } from '../render/gratingCamera.js';
+import { imageToBandPx } from '../spectrum/band/frame.js';
+import type { BandGeometry, Peak, SpectralLine } from '../types.js';
+import { fitDispersion, type CalibrationPoint, type DispersionFit, type FitDispersionOptions } from './fitDispersion.js';
+import type { GratingFitOptions, ParameterPrior } from './gratingModel.js';
+import { isBroadFeature, referenceUncertaintyNm } from './lineReference.js';
+import { matchLines, type ManualPair, type MatchLinesOptions, type MatchResult } from './matchLines.js';
+
+/** Where the physical model's focal length and axis come from, for a photo. */
+export interface GratingPriorsInput {
+  image: { widthPx: number; heightPx: number } | null;
+  band: BandGeometry | null;
+  /** EXIF FocalLengthIn35mmFilm (mm). */
+  focalLength35mmMm?: number;
+  /** A focal length the user knows (px); fixes f. */
+  focalLengthPx?: number;
+}
+
+export interface GratingPriors {
+  focalLengthPx: ParameterPrior | null;
+  axisPositionPx: ParameterPrior | null;
+  focalLengthSource: 'exif' | 'given' | 'fitted';
+}
+
+/**
+ * Relative standard uncertainty given to an EXIF-derived focal length: EXIF stores whole millimetres (±0.5 mm of
+ * ~26 mm is ±2 %, uniform → 1.1 %), and cameras differ in how they match the 35-mm equivalent (diagonal, width,
+ * before or after a crop). 2 % is common practice, no source.
+ */
+export const EXIF_FOCAL_LENGTH_RELATIVE_SIGMA = 0.02;
+/**
+ * Standard uncertainty of the principal point about the image centre, as a fraction of the image diagonal (phone and
+ * webcam lenses are centred to about 1–2 %; common practice, no source).
+ */
+export const PRINCIPAL_POINT_RELATIVE_SIGMA = 0.015;
+
+/**
+ * Priors for the grating model from the photo: f from a given value (fixed) or from EXIF's 35-mm-equivalent focal
+ * length, f_px = f35 · (image diagonal in px) / 43.27 mm — the equivalence matched on the diagonal of the 36 × 24 mm
+ * frame (see focalLengthPxFrom35mm) — with a 2 % standard uncertainty; x0 from the image centre projected onto the
+ * band axis. Without an image (a spectrum file) neither is known and both are fitted.
+ */
+export function gratingPriors(input: GratingPriorsInput): GratingPriors {
+  let focalLengthPx: ParameterPrior | null = null;
+  let focalLengthSource: GratingPriors['focalLengthSource'] = 'fitted';
+  if (input.focalLengthPx !== undefined) {
+    if (!(input.focalLengthPx > 0 && Number.isFinite(input.focalLengthPx))) {
+      throw new InputError(`focal length: expected a positive number of pixels, got ${input.focalLengthPx}`, 'focal-px');
+    }
+    focalLengthPx = { value: input.focalLengthPx, sigma: 0 };
+    focalLengthSource = 'given';
+  } else if (input.image && input.focalLength35mmMm && input.focalLength35mmMm > 0) {
+    const f = focalLengthPxFrom35mm({
+      focalLength35mmMm: input.focalLength35mmMm,
+      widthPx: input.image.widthPx,
+      heightPx: input.image.heightPx,
+    });
+    focalLengthPx = { value: f, sigma: EXIF_FOCAL_LENGTH_RELATIVE_SIGMA * f };
+    focalLengthSource = 'exif';
+  }
+  let axisPositionPx: ParameterPrior | null = null;
+  if (input.image && input.band) {
+    // Pixel centres sit at integer coordinates: the centre of a W-pixel row is at (W − 1)/2.
+    const centre = { x: (input.image.widthPx - 1) / 2, y: (input.image.heightPx - 1) / 2 };
+    const diag = Math.hypot(input.image.widthPx, input.image.heightPx);
+    axisPositionPx = { value: imageToBandPx(input.band, centre).positionPx, sigma: PRINCIPAL_POINT_RELATIVE_SIGMA * diag };
+  }
+  return { focalLengthPx, axisPositionPx, focalLengthSource };
+}
+
+export interface CalibrateOptions {
+  /** Known correspondences (position px = wavelength nm). @default [] */
+  pairs: ManualPair[];
+  /** Automatic matching options (the pairs above are passed on). */
+  match: Partial<Omit<MatchLinesOptions, 'pairs'>>;
+  /** Dispersion fit options (model, degree, criterion, clipping, grating priors). */
+  fit: Partial<FitDispersionOptions>;
+  /** A manual pair snaps to a peak within this distance (px). @default 3 */
+  snapPx: number;
+}
+
+export const CALIBRATE_DEFAULTS: CalibrateOptions = { pairs: [], match: {}, fit: {}, snapPx: 3 };
+
+export interface CalibrationResult {
+  fit: DispersionFit;
+  /** The automatic matching, when a lamp was given. */
+  match: MatchResult | null;
+  points: CalibrationPoint[];
+  warnings: string[];
+}
+
+function lineLabel(line: SpectralLine): string {
+  return `${line.spectrum} ${line.wavelengthNm.toFixed(3)}`;
+}
+
+/**
+ * Peaks (+ a lamp's lines and/or manual pairs) → calibration: automatic matching when lines are given (mixed with
+ * the pairs), else the pairs alone, each snapped to the nearest peak; then the robust dispersion fit. A lamp that does
+ * not match throws InputError with the matcher's reason: no scale is ever returned for a wrong lamp.
+ */
+export function calibrateFromPeaks(
+  peaks: readonly Peak[],
+  lines: readonly SpectralLine[] | null,
+  options: Partial<CalibrateOptions> = {},
+): CalibrationResult {
+  const o: CalibrateOptions = { ...CALIBRATE_DEFAULTS, ...options };
+  const warnings: string[] = [];
+  let points: CalibrationPoint[];
+  let match: MatchResult | null = null;
+  // Broad bands (a phosphor's 50 nm wide Eu²⁺ band) have no position to calibrate with.
+  const usable = lines ? lines.filter((l) => !isBroadFeature(l)) : null;
+  if (usable && usable.length > 0) {
+    // With priors from the photo, the matcher also scores its solutions with the physical model.
+    const g = o.fit.grating;
+    const priors = g && (g.focalLengthPx || g.axisPositionPx) ? g : null;
+    match = matchLines(peaks, usable, { grating: priors, ...o.match, pairs: o.pairs, snapPx: o.snapPx });
+    warnings.push(...match.warnings);
+    if (!match.accepted) throw new InputError(match.message, 'lamp');
+    points = match.matches.map((m) => {
+      const peak = m.peakIndex >= 0 ? peaks[m.peakIndex] : undefined;
+      const lampBlended = (m.line as { blended?: boolean } | undefined)?.blended === true;
+      return {
+        positionPx: m.positionPx,
+        positionUncertaintyPx: peak ? peak.positionUncertaintyPx : m.positionUncertaintyPx,
+        wavelengthNm: m.wavelengthNm,
+        referenceUncertaintyNm: m.line ? referenceUncertaintyNm(m.line, usable) : 0,
+        source: m.source,
+        label: m.line ? lineLabel(m.line) : `${m.wavelengthNm} nm (given)`,
+        saturated: m.saturated,
+        blended: m.blended || lampBlended,
+        peakIndex: m.peakIndex >= 0 ? m.peakIndex : undefined,
+      };
+    });
+  } else {
+    if (o.pairs.length === 0) throw new InputError('nothing to calibrate with: give --lamp, --pairs, or both', 'lamp');
+    points = o.pairs.map((pair) => {
+      let best = -1;
+      for (let i = 0; i < peaks.length; i++) {
+        const d = Math.abs(peaks[i].positionPx - pair.positionPx);
+        if (d <= o.snapPx && (best < 0 || d < Math.abs(peaks[best].positionPx - pair.positionPx))) best = i;
+      }
+      const peak = best >= 0 ? peaks[best] : undefined;
+      if (!peak && peaks.length > 0) {
+        warnings.push(`no peak within ${o.snapPx} px of the pair at ${pair.positionPx} px: the position is used as given (±0.5 px)`);
+      }
+      return {
+        positionPx: peak ? peak.positionPx : pair.positionPx,
+        positionUncertaintyPx: peak ? peak.positionUncertaintyPx : 0.5,
+        wavelengthNm: pair.wavelengthNm,
+        source: 'manual' as const,
+        label: `${pair.wavelengthNm} nm (given)`,
+        saturated: peak?.saturated ?? false,
+        blended: peak?.blended ?? false,
+        peakIndex: best >= 0 ? best : undefined,
+      };
+    });
+  }
+  const fit = fitDispersion(points, o.fit);
+  warnings.push(...fit.warnings);
+  return { fit, match, points, warnings };
+}
+
+export type { GratingFitOptions };

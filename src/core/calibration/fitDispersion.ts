@@ -1,0 +1,405 @@
+import { InputError, invalid } from '../errors.js';
+import { fitGrating, gratingLinesPerMm, type GratingFitOptions } from './gratingModel.js';
+import { dispersionAtNmPerPx, wavelengthAtNm, type DispersionModel } from './model.js';
+import { fitPolynomial, type PolynomialModel, type WeightedPoint } from './polynomialModel.js';
+import { informationCriterion } from './informationCriterion.js';
+import { modelSigmaNm } from './uncertainty.js';
+
+/** A line with a known wavelength at a measured position: from a manual pair or from automatic matching. */
+export interface CalibrationPoint {
+  positionPx: number;
+  /** Centroid standard uncertainty (px). */
+  positionUncertaintyPx: number;
+  /** Air wavelength (nm). */
+  wavelengthNm: number;
+  /**
+   * Standard uncertainty of the reference wavelength as the camera sees it (nm): 0 for an isolated atomic line (NIST
+   * wavelengths are good to ~0.001 nm), more for a broad phosphor peak or a line blended with lamp neighbours.
+   */
+  referenceUncertaintyNm?: number;
+  source: 'manual' | 'matched';
+  /** What the line is, for the residual table ('Hg I 546.074'). */
+  label?: string;
+  saturated?: boolean;
+  blended?: boolean;
+  /** Index of the peak it came from, if any. */
+  peakIndex?: number;
+}
+
+export type ModelChoice = 'polynomial' | 'grating' | 'auto';
+
+export interface FitDispersionOptions {
+  /** Which model: a polynomial, the physical grating model, or whichever the information criterion prefers. @default 'auto' */
+  model: ModelChoice;
+  /** Polynomial degree 1–4, or null to choose it by the information criterion. @default null */
+  degree: number | null;
+  /** Highest polynomial degree considered. @default 4 */
+  maxDegree: number;
+  /** Information criterion for the degree and the model. @default 'aicc' */
+  criterion: 'aicc' | 'bic';
+  /** A line is clipped when its leave-one-out residual exceeds this many standard deviations. @default 3 */
+  clipSigma: number;
+  /** Floor on each line's centroid uncertainty (px): pixel phase, line shape, JPEG. @default 0.05 */
+  minPositionUncertaintyPx: number;
+  /** Floor for peaks with saturated samples (px): their flat tops centre less well. @default 0.3 */
+  saturatedPositionUncertaintyPx: number;
+  /**
+   * Leave peaks flagged blended out of the fit while 3 others remain. Off by default: the peak finder's joint fit of
+   * overlapping lines gives usable centres with their uncertainties, known lamp blends carry a reference
+   * uncertainty, and clipping removes the rest. @default false
+   */
+  excludeBlended: boolean;
+  /**
+   * Lines whose reference wavelength is known to worse than this (nm) — blends with lamp neighbours of comparable
+   * strength — are left out of the fit while 3 others remain. @default 0.3
+   */
+  maxReferenceUncertaintyNm: number;
+  /** The physical model's fixed and tied parameters (order, incidence, focal length and axis priors). */
+  grating: Partial<GratingFitOptions>;
+}
+
+export const FIT_DISPERSION_DEFAULTS: FitDispersionOptions = {
+  model: 'auto',
+  degree: null,
+  maxDegree: 4,
+  criterion: 'aicc',
+  clipSigma: 3,
+  minPositionUncertaintyPx: 0.05,
+  saturatedPositionUncertaintyPx: 0.3,
+  excludeBlended: false,
+  maxReferenceUncertaintyNm: 0.3,
+  grating: {},
+};
+
+export interface FittedLine {
+  positionPx: number;
+  positionUncertaintyPx: number;
+  wavelengthNm: number;
+  /** λ of the chosen model at the position. */
+  fittedNm: number;
+  /** Reference − fitted (nm). */
+  residualNm: number;
+  /** The same in pixels (residual / local dispersion). */
+  residualPx: number;
+  used: boolean;
+  /**
+   * Why a line was left out: 'clipped' (an outlier), 'blended' (a peak flagged blended, with excludeBlended), or
+   * 'imprecise' (its reference wavelength is uncertain beyond maxReferenceUncertaintyNm: a lamp blend, a broad peak).
+   */
+  excluded?: 'clipped' | 'blended' | 'imprecise';
+  source: 'manual' | 'matched';
+  label?: string;
+  saturated: boolean;
+  peakIndex?: number;
+}
+
+/** One model considered, with its information criterion on the lines used. */
+export interface ModelCandidate {
+  kind: 'polynomial' | 'grating';
+  degree?: number;
+  /** Parameters the criterion counts (effective ones for the grating model with priors), plus one for the scale. */
+  parameterCount: number;
+  criterion: number;
+  rmsNm: number;
+  chosen: boolean;
+}
+
+export interface DispersionFit {
+  model: DispersionModel;
+  /** For a polynomial, the same lines fitted with one degree more (bounds extrapolation); null otherwise. */
+  checkModel: PolynomialModel | null;
+  /** Positions of the first and last line used (px). */
+  rangePx: [number, number];
+  /** Wavelengths there (nm), ascending. */
+  rangeNm: [number, number];
+  /** dλ/dx at the middle of the range (nm/px, signed). */
+  dispersionNmPerPx: number;
+  lines: FittedLine[];
+  linesUsed: number;
+  /** Unweighted RMS of the used lines' residuals (nm, px). */
+  rmsNm: number;
+  rmsPx: number;
+  /** χ²/dof with the a-priori centroid uncertainties; the covariance is scaled by it when > 1. */
+  birgeRatio: number;
+  dof: number;
+  criterion: 'aicc' | 'bic';
+  candidates: ModelCandidate[];
+  /** Grating model only: line density 10⁶/d and its standard uncertainty. */
+  linesPerMm?: number;
+  linesPerMmUncertainty?: number;
+  warnings: string[];
+}
+
+interface Working {
+  point: CalibrationPoint;
+  sigmaPx: number;
+  used: boolean;
+  excluded?: 'clipped' | 'blended' | 'imprecise';
+}
+
+function checkOptions(o: FitDispersionOptions): void {
+  if (!['polynomial', 'grating', 'auto'].includes(o.model)) throw invalid('model', "'poly', 'grating' or 'auto'", o.model);
+  if (o.degree !== null && !(Number.isInteger(o.degree) && o.degree >= 1 && o.degree <= 4)) {
+    throw invalid('degree', 'an integer from 1 to 4', o.degree);
+  }
+  if (!(Number.isInteger(o.maxDegree) && o.maxDegree >= 1 && o.maxDegree <= 4)) throw invalid('maxDegree', 'an integer from 1 to 4', o.maxDegree);
+  if (!(o.clipSigma > 0)) throw invalid('clipSigma', 'a positive number', o.clipSigma);
+}
+
+/**
+ * Fits the dispersion λ(x) to calibration lines: weighted least squares with the centroid uncertainties, iterative
+ * sigma clipping on leave-one-out residuals, the polynomial degree (and, with `model: 'auto'`, polynomial versus
+ * grating model) chosen by AICc or BIC, and the covariance for the wavelength uncertainty at any position.
+ * Throws InputError when the lines cannot determine a scale (fewer than two distinct positions, a degree the lines
+ * cannot support, a grating model that cannot be fitted when it was asked for).
+ */
+export function fitDispersion(points: readonly CalibrationPoint[], options: Partial<FitDispersionOptions> = {}): DispersionFit {
+  const o: FitDispersionOptions = { ...FIT_DISPERSION_DEFAULTS, ...options, grating: { ...options.grating } };
+  checkOptions(o);
+  const warnings: string[] = [];
+  points.forEach((p, i) => {
+    if (!Number.isFinite(p.positionPx)) throw invalid(`lines[${i}].positionPx`, 'a finite position (px)', p.positionPx);
+    if (!(Number.isFinite(p.wavelengthNm) && p.wavelengthNm > 0)) throw invalid(`lines[${i}].wavelengthNm`, 'a positive wavelength (nm)', p.wavelengthNm);
+  });
+  const work: Working[] = points.map((point) => {
+    let s = Number.isFinite(point.positionUncertaintyPx) && point.positionUncertaintyPx > 0 ? point.positionUncertaintyPx : 0.5;
+    s = Math.max(s, o.minPositionUncertaintyPx);
+    if (point.saturated) s = Math.max(s, o.saturatedPositionUncertaintyPx);
+    return { point, sigmaPx: s, used: true };
+  });
+  work.sort((a, b) => a.point.positionPx - b.point.positionPx);
+  // The same wavelength at two positions, or two wavelengths at one position: a contradiction in the pairs.
+  for (let i = 1; i < work.length; i++) {
+    const a = work[i - 1].point;
+    const b = work[i].point;
+    if (a.positionPx === b.positionPx && a.wavelengthNm !== b.wavelengthNm) {
+      throw new InputError(`two wavelengths (${a.wavelengthNm} and ${b.wavelengthNm} nm) given for one position (${a.positionPx} px)`, 'pairs');
+    }
+  }
+  const distinct = new Set(work.map((w) => w.point.positionPx)).size;
+  if (distinct < 2) {
+    throw new InputError(
+      `${distinct === 1 ? 'only one line' : 'no lines'} to calibrate with: a wavelength scale needs at least two lines at different positions (three or more to check it)`,
+      'lines',
+    );
+  }
+  if (work.every((w) => w.point.saturated)) {
+    warnings.push('every calibration line comes from a saturated peak: positions are less certain; reduce the exposure and calibrate again');
+  }
+  const vague = (w: Working) => (w.point.referenceUncertaintyNm ?? 0) > o.maxReferenceUncertaintyNm;
+  const leaveOut = (w: Working) => vague(w) || (o.excludeBlended && w.point.blended === true);
+  if (work.filter((w) => !leaveOut(w)).length >= 3) {
+    for (const w of work) {
+      if (leaveOut(w)) {
+        w.used = false;
+        w.excluded = vague(w) ? 'imprecise' : 'blended';
+      }
+    }
+  }
+
+  // Weights 1/σλ² with σλ = σx·|dλ/dx| from a first straight line through the used lines.
+  const rough = fitPolynomial(toPoints(work.filter((w) => w.used)), 1);
+  if (!rough) throw new InputError('the calibration lines do not determine a scale (coincident positions)', 'lines');
+  const roughDispersion = (x: number) => Math.abs(dispersionAtNmPerPx(rough.model, x));
+  if (!(roughDispersion(work[0].point.positionPx) > 0)) {
+    throw new InputError('the calibration lines give no dispersion: every line has the same wavelength', 'lines');
+  }
+  const weightOf = (w: Working) =>
+    1 / ((w.sigmaPx * roughDispersion(w.point.positionPx)) ** 2 + (w.point.referenceUncertaintyNm ?? 0) ** 2);
+
+  const fitPoly = (set: Working[], degree: number) => fitPolynomial(toPoints(set, weightOf), degree);
+  const chooseDegree = (set: Working[]): number => {
+    if (o.degree !== null) return o.degree;
+    let best = 1;
+    let bestScore = Infinity;
+    for (let d = 1; d <= o.maxDegree; d++) {
+      if (new Set(set.map((w) => w.point.positionPx)).size < d + 1) break;
+      const fit = fitPoly(set, d);
+      if (!fit) break;
+      const score = informationCriterion(o.criterion, fit.chi2, set.length, d + 1);
+      if (score < bestScore - 1e-9) {
+        bestScore = score;
+        best = d;
+      }
+    }
+    return best;
+  };
+
+  // Iterative clipping: the line with the largest normalised residual is refitted without it; if its leave-one-out
+  // residual exceeds clipSigma standard deviations (its own σ scaled by the Birge ratio of the fit without it, plus
+  // the prediction's σ), it is clipped and the degree chosen again.
+  for (;;) {
+    const used = work.filter((w) => w.used);
+    const degree = chooseDegree(used);
+    const minKept = Math.max(3, degree + 2);
+    if (used.length <= minKept) break;
+    const fit = fitPoly(used, degree);
+    if (!fit) break;
+    let worst = -1;
+    let worstZ = 0;
+    used.forEach((w, i) => {
+      const r = w.point.wavelengthNm - wavelengthAtNm(fit.model, w.point.positionPx);
+      const z = Math.abs(r) * Math.sqrt(weightOf(w));
+      if (z > worstZ) {
+        worstZ = z;
+        worst = i;
+      }
+    });
+    if (worst < 0) break;
+    const others = used.filter((_, i) => i !== worst);
+    const loo = fitPoly(others, degree);
+    if (!loo) break;
+    const w = used[worst];
+    const birge = loo.dof > 0 ? Math.max(1, loo.chi2 / loo.dof) : 1;
+    const sigma2 = birge / weightOf(w) + modelSigmaNm(loo.model, w.point.positionPx) ** 2;
+    const z = Math.abs(w.point.wavelengthNm - wavelengthAtNm(loo.model, w.point.positionPx)) / Math.sqrt(sigma2);
+    if (z <= o.clipSigma) break;
+    w.used = false;
+    w.excluded = 'clipped';
+  }
+
+  const used = work.filter((w) => w.used);
+  const degree = chooseDegree(used);
+  if (used.length < degree + 1 || new Set(used.map((w) => w.point.positionPx)).size < degree + 1) {
+    throw new InputError(`degree ${degree} needs at least ${degree + 1} lines at different positions; ${used.length} are usable`, 'degree');
+  }
+  const poly = fitPoly(used, degree);
+  if (!poly) throw new InputError('the calibration lines do not determine the polynomial (coincident positions)', 'lines');
+  const candidates: ModelCandidate[] = [];
+  for (let d = 1; d <= o.maxDegree; d++) {
+    const f = d === degree ? poly : fitPoly(used, d);
+    if (!f) continue;
+    candidates.push({
+      kind: 'polynomial',
+      degree: d,
+      parameterCount: d + 1,
+      criterion: informationCriterion(o.criterion, f.chi2, used.length, d + 1),
+      rmsNm: rmsOf(f.model, used),
+      chosen: false,
+    });
+  }
+  const checkFit = new Set(used.map((w) => w.point.positionPx)).size >= degree + 2 ? fitPoly(used, degree + 1) : null;
+  const checkModel = checkFit ? checkFit.model : null;
+
+  // The physical model on the same lines.
+  let chosen: DispersionModel = poly.model;
+  let chosenDof = poly.dof;
+  let chosenChi2 = poly.chi2;
+  if (o.model !== 'polynomial') {
+    const g = fitGrating(toPoints(used, weightOf), o.grating);
+    if (!g) {
+      const why = `the grating model cannot be fitted to ${used.length} lines` +
+        (o.grating.focalLengthPx ? '' : ' with the focal length unknown (no EXIF focal length; give --focal-px)');
+      if (o.model === 'grating') throw new InputError(why, 'model');
+      warnings.push(`${why}; the polynomial is used`);
+    } else {
+      const gCriterion = informationCriterion(o.criterion, g.chi2, used.length, g.effectiveParameters);
+      candidates.push({
+        kind: 'grating',
+        parameterCount: g.effectiveParameters,
+        criterion: gCriterion,
+        rmsNm: rmsOf(g.model, used),
+        chosen: false,
+      });
+      const bestPoly = Math.min(...candidates.filter((c) => c.kind === 'polynomial' && c.degree === degree).map((c) => c.criterion));
+      // In 'auto' the physical model wins unless the polynomial is clearly better (ΔIC > 2, Burnham & Anderson's
+      // "substantial support" threshold): it extrapolates far better and reports the line density.
+      const takeGrating = o.model === 'grating' || !(bestPoly < gCriterion - 2) || (!Number.isFinite(bestPoly) && !Number.isFinite(gCriterion));
+      if (takeGrating) {
+        chosen = g.model;
+        chosenDof = g.dof;
+        chosenChi2 = g.chi2;
+        if (!g.converged) warnings.push('the grating model fit did not converge fully; its parameters may be off');
+      }
+    }
+  }
+  for (const c of candidates) {
+    c.chosen = chosen.kind === 'grating' ? c.kind === 'grating' : c.kind === 'polynomial' && c.degree === degree;
+  }
+
+  const lines: FittedLine[] = work.map((w) => {
+    const fitted = wavelengthAtNm(chosen, w.point.positionPx);
+    const disp = dispersionAtNmPerPx(chosen, w.point.positionPx);
+    const r = w.point.wavelengthNm - fitted;
+    return {
+      positionPx: w.point.positionPx,
+      positionUncertaintyPx: w.sigmaPx,
+      wavelengthNm: w.point.wavelengthNm,
+      fittedNm: fitted,
+      residualNm: r,
+      residualPx: disp !== 0 ? r / disp : NaN,
+      used: w.used,
+      excluded: w.excluded,
+      source: w.point.source,
+      label: w.point.label,
+      saturated: w.point.saturated ?? false,
+      peakIndex: w.point.peakIndex,
+    };
+  });
+  const usedLines = lines.filter((l) => l.used);
+  const rmsNm = Math.sqrt(usedLines.reduce((a, l) => a + l.residualNm ** 2, 0) / usedLines.length);
+  const rmsPx = Math.sqrt(usedLines.reduce((a, l) => a + l.residualPx ** 2, 0) / usedLines.length);
+  const rangePx: [number, number] = [usedLines[0].positionPx, usedLines[usedLines.length - 1].positionPx];
+  const l0 = wavelengthAtNm(chosen, rangePx[0]);
+  const l1 = wavelengthAtNm(chosen, rangePx[1]);
+  const birgeRatio = chosenDof > 0 ? chosenChi2 / chosenDof : NaN;
+
+  const clipped = lines.filter((l) => l.excluded === 'clipped');
+  if (clipped.length) {
+    warnings.push(
+      `${clipped.length} line(s) rejected as outliers (> ${o.clipSigma} σ): ` +
+        clipped.map((l) => `${l.label ?? `${l.wavelengthNm} nm`} at ${l.positionPx.toFixed(1)} px (${l.residualNm.toFixed(3)} nm)`).join(', '),
+    );
+  }
+  const blended = lines.filter((l) => l.excluded === 'blended');
+  if (blended.length) warnings.push(`${blended.length} blended peak(s) left out of the fit`);
+  const imprecise = lines.filter((l) => l.excluded === 'imprecise');
+  if (imprecise.length) {
+    warnings.push(
+      `${imprecise.length} line(s) left out of the fit because their wavelength as the camera records it is uncertain by more than ` +
+        `${o.maxReferenceUncertaintyNm} nm (blends with lamp neighbours, broad phosphor peaks): ` +
+        imprecise.map((l) => `${l.label ?? `${l.wavelengthNm} nm`} at ${l.positionPx.toFixed(1)} px`).join(', '),
+    );
+  }
+  if (usedLines.length === 2) {
+    warnings.push('only two lines: the scale is a straight line through them with nothing to check it; its uncertainty covers centroid noise only');
+  } else if (chosenDof <= 0) {
+    warnings.push(`${usedLines.length} lines for ${usedLines.length - chosenDof} parameters: no residual check of the model`);
+  }
+  if (birgeRatio > 9) {
+    warnings.push(
+      `the residuals (RMS ${rmsPx.toFixed(2)} px) are ${Math.sqrt(birgeRatio).toFixed(1)}× larger than the centroid uncertainties explain: ` +
+        'a blend, a misidentified line or lens distortion; uncertainties are scaled up accordingly',
+    );
+  }
+  const result: DispersionFit = {
+    model: chosen,
+    checkModel: chosen.kind === 'polynomial' ? checkModel : null,
+    rangePx,
+    rangeNm: [Math.min(l0, l1), Math.max(l0, l1)],
+    dispersionNmPerPx: dispersionAtNmPerPx(chosen, (rangePx[0] + rangePx[1]) / 2),
+    lines,
+    linesUsed: usedLines.length,
+    rmsNm,
+    rmsPx,
+    birgeRatio,
+    dof: chosenDof,
+    criterion: o.criterion,
+    candidates,
+    warnings,
+  };
+  if (chosen.kind === 'grating') {
+    const { linesPerMm, uncertaintyLinesPerMm } = gratingLinesPerMm(chosen);
+    result.linesPerMm = linesPerMm;
+    result.linesPerMmUncertainty = uncertaintyLinesPerMm;
+  }
+  return result;
+}
+
+function toPoints(set: Working[], weightOf?: (w: Working) => number): WeightedPoint[] {
+  return set.map((w) => ({ xPx: w.point.positionPx, wavelengthNm: w.point.wavelengthNm, weight: weightOf ? weightOf(w) : 1 / w.sigmaPx ** 2 }));
+}
+
+function rmsOf(model: DispersionModel, set: Working[]): number {
+  return Math.sqrt(set.reduce((a, w) => a + (w.point.wavelengthNm - wavelengthAtNm(model, w.point.positionPx)) ** 2, 0) / set.length);
+}

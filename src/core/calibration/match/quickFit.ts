@@ -1,0 +1,125 @@
+/** The many small polynomial fits of the line search, and residuals of pairs under any dispersion model. */
+import { invertSymmetric } from '../../fit/index.js';
+import { informationCriterion } from '../informationCriterion.js';
+import { dispersionAtNmPerPx, wavelengthAtNm, type DispersionModel } from '../model.js';
+import { polynomialDispersionNmPerPx, polynomialWavelengthNm, type PolynomialModel } from '../polynomialModel.js';
+import { type Ctx, lineSigmaNm, median, type Pair, sigmaOf } from './context.js';
+
+export interface QuickFit {
+  model: PolynomialModel;
+  /** χ² with σλ² = (σx·dλ/dx)² + σref². */
+  chi2: number;
+}
+
+/**
+ * Weighted polynomial by normal equations on t = (x − centre)/halfwidth ∈ [−1, 1] — well conditioned up to degree 3
+ * there, and several times faster than QR for the search's many small fits. Two passes: weights 1/σx² first, then
+ * 1/(σx² + (σref/|dλ/dx|)²) with each line's reference uncertainty converted by the first pass's dispersion. The
+ * covariance is (AᵀWA)⁻¹ on the wavelength axis, scaled by the Birge ratio when it exceeds 1, as in fitPolynomial.
+ */
+export function quickPolynomial(ctx: Ctx, pairs: readonly Pair[], degree: number): QuickFit | null {
+  const k = degree + 1;
+  const n = pairs.length;
+  if (n < k) return null;
+  let lo = Infinity;
+  let hi = -Infinity;
+  for (const q of pairs) {
+    lo = Math.min(lo, q.x);
+    hi = Math.max(hi, q.x);
+  }
+  const centerPx = (lo + hi) / 2;
+  const scalePx = Math.max((hi - lo) / 2, 1);
+  const sigmaNm = (q: Pair, model: PolynomialModel | null): number => {
+    if (!model) return sigmaOf(ctx, q); // px units in the first pass: only relative weights matter
+    return Math.hypot(sigmaOf(ctx, q) * polynomialDispersionNmPerPx(model, q.x), lineSigmaNm(ctx, q));
+  };
+  let model: PolynomialModel | null = null;
+  let inv: number[][] | null = null;
+  for (let pass = 0; pass < 2; pass++) {
+    const ata = new Float64Array(k * k);
+    const atb = new Float64Array(k);
+    const pw = new Float64Array(2 * k);
+    for (const q of pairs) {
+      const w = 1 / sigmaNm(q, model) ** 2;
+      const t = (q.x - centerPx) / scalePx;
+      pw[0] = 1;
+      for (let j = 1; j < 2 * k; j++) pw[j] = pw[j - 1] * t;
+      for (let a = 0; a < k; a++) {
+        atb[a] += w * pw[a] * q.lambda;
+        for (let b = 0; b < k; b++) ata[a * k + b] += w * pw[a + b];
+      }
+    }
+    inv = invertSymmetric(Array.from({ length: k }, (_, a) => Array.from(ata.subarray(a * k, a * k + k))));
+    if (!inv) return null;
+    const c = new Array<number>(k).fill(0);
+    for (let a = 0; a < k; a++) for (let b = 0; b < k; b++) c[a] += inv[a][b] * atb[b];
+    if (!c.every(Number.isFinite)) return null;
+    model = { kind: 'polynomial', degree, centerPx, scalePx, coefficientsNm: c, covariance: inv };
+  }
+  if (!model || !inv) return null;
+  let chi2 = 0;
+  for (const q of pairs) chi2 += ((q.lambda - polynomialWavelengthNm(model, q.x)) / sigmaNm(q, model)) ** 2;
+  const dof = n - k;
+  const birge = dof > 0 ? Math.max(1, chi2 / dof) : 1;
+  if (birge !== 1) model.covariance = inv.map((row) => row.map((v) => v * birge));
+  return { model, chi2 };
+}
+
+function distinctPositions(pairs: readonly Pair[]): number {
+  let count = 0;
+  for (let i = 0; i < pairs.length; i++) if (i === 0 || pairs[i].x !== pairs[i - 1].x) count++;
+  return count;
+}
+
+/** Degree while growing: a quadratic from three positions on (a grating's scale bends), a cubic from nine. */
+export function growthDegree(count: number): number {
+  return count >= 9 ? 3 : count >= 3 ? 2 : 1;
+}
+
+/** The pairs (sorted by x) fitted with the growth degree, capped at maxDegree; null when they cannot be. */
+export function fitPairs(ctx: Ctx, pairs: readonly Pair[], maxDegree = 3): PolynomialModel | null {
+  const distinct = distinctPositions(pairs);
+  for (let deg = Math.min(maxDegree, growthDegree(distinct), distinct - 1); deg >= 1; deg--) {
+    const f = quickPolynomial(ctx, pairs, deg);
+    if (f) return f.model;
+  }
+  return null;
+}
+
+/**
+ * The pairs fitted with the degree (1–3) that AICc prefers (see informationCriterion): the least flexible model the
+ * matches support, so that the scoring's count of fitted parameters is honest.
+ */
+export function fitPairsParsimonious(ctx: Ctx, pairs: readonly Pair[]): PolynomialModel | null {
+  const distinct = distinctPositions(pairs);
+  let best: PolynomialModel | null = null;
+  let bestScore = Infinity;
+  for (let deg = 1; deg <= Math.min(3, distinct - 1); deg++) {
+    const f = quickPolynomial(ctx, pairs, deg);
+    if (!f) continue;
+    const score = informationCriterion('aicc', f.chi2, pairs.length, deg + 1);
+    if (!best || score < bestScore - 1e-9) {
+      best = f.model;
+      bestScore = score;
+    }
+  }
+  return best;
+}
+
+export function residualPx(model: DispersionModel, q: Pair): number {
+  return (q.lambda - wavelengthAtNm(model, q.x)) / dispersionAtNmPerPx(model, q.x);
+}
+
+/** 1.4826 × median |residual| (px) of the automatic, unblended pairs: the good ones' scatter, barely moved by bad ones. */
+export function robustScatterPx(ctx: Ctx, model: DispersionModel, pairs: readonly Pair[]): number {
+  const res = pairs.filter((q) => !q.manual && !(q.peak >= 0 && ctx.P[q.peak].blended)).map((q) => Math.abs(residualPx(model, q)));
+  return res.length ? 1.4826 * median(res) : 0;
+}
+
+export function rmsPx(model: DispersionModel, pairs: readonly Pair[]): number {
+  let s = 0;
+  for (const q of pairs) s += residualPx(model, q) ** 2;
+  return Math.sqrt(s / Math.max(pairs.length, 1));
+}
+
+export { polynomialDispersionNmPerPx, polynomialWavelengthNm };

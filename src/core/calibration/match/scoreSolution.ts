@@ -1,0 +1,137 @@
+/**
+ * Step 4 of the line search: how far a solution beats chance. Under the null hypothesis "these peaks are unrelated
+ * to the lamp", each peak lands within the tolerance of one of the lines its colour admits with probability p_i;
+ * the count of matches beyond the model's fitted parameters is then binomial (with the mean p), and the solution's
+ * score is its upper tail. The search looked at many scale hypotheses, so the tail is multiplied by their number
+ * (Bonferroni's bound on the look-elsewhere effect) before it is compared with the acceptance threshold.
+ */
+import { dispersionAtNmPerPx, wavelengthAtNm, type DispersionModel } from '../model.js';
+import { log10BinomialTail } from '../significance.js';
+import { type Ctx, lineSigmaNm, lowerBound, median } from './context.js';
+import type { GrownSolution } from './growSolution.js';
+import { rmsPx } from './quickFit.js';
+
+export interface MatchScore {
+  /** Matched peaks that count as evidence (see scoreSolution). */
+  matched: number;
+  /** Peaks that take part: inside the lamp's line range and able to count either way. */
+  peaksInRange: number;
+  /** Mean chance that one unrelated peak lands on a line: tolerance window × density of the lines its colour admits. */
+  chancePerPeak: number;
+  /** Model parameters fitted to the matches (not counted as evidence). */
+  parameters: number;
+  /** Matches chance alone would give: parameters + (peaksInRange − parameters) × chancePerPeak. */
+  expectedByChance: number;
+  /** log10 of the binomial probability of this many matches by chance, for one hypothesis. */
+  log10Chance: number;
+  /** log10 of the number of scale hypotheses (peak pair × line pair within the dispersion prior). */
+  log10Trials: number;
+  /** Bonferroni bound on the probability that chance produced a solution this good: 10^(log10Chance + log10Trials). */
+  falseMatchProbability: number;
+  tolerancePx: number;
+  rmsPx: number;
+  /** Which model the score was computed with. */
+  model: 'polynomial' | 'grating';
+}
+
+/**
+ * Scores a grown solution whose model has `parameters` fitted parameters. Peaks of its window that the model puts
+ * inside the lamp's line range take part, except those that are no evidence either way: an unresolved blend (a
+ * blended peak whose centre is vaguer than half the tolerance), a peak whose colour admits none of
+ * the lamp's lines there (second order, stray light). Evidence: those of the others that matched.
+ */
+export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: number): MatchScore {
+  const { P, px, lw } = ctx;
+  const { model, pairs, window, tolerancePx: tolPx } = solution;
+  const lamLo = lw[0];
+  const lamHi = lw[lw.length - 1];
+  const pairOf = new Map(pairs.filter((q) => q.peak >= 0).map((q) => [q.peak, q]));
+  let covLo = Infinity;
+  let covHi = -Infinity;
+  const taking: number[] = [];
+  for (let q = lowerBound(px, window[0]); q < px.length && px[q] <= window[1]; q++) {
+    const lam = wavelengthAtNm(model, px[q]);
+    if ((lam >= lamLo - 1 && lam <= lamHi + 1) || pairOf.has(q)) {
+      taking.push(q);
+      covLo = Math.min(covLo, lam);
+      covHi = Math.max(covHi, lam);
+    }
+  }
+  const covWidth = Math.max(covHi - covLo, 1e-9);
+  // Reference uncertainty of a typical lamp line in the covered range, for peaks that matched nothing.
+  const sigmas = ctx.L.filter((l) => l.wavelengthNm >= covLo && l.wavelengthNm <= covHi).map((l) => l.sigmaNm);
+  const typicalSigmaNm = sigmas.length ? median(sigmas) : 0;
+  let inRange = 0;
+  let matched = 0;
+  let manualPeaks = 0;
+  let pSum = 0;
+  for (const q of taking) {
+    const pair = pairOf.get(q);
+    const disp = Math.abs(dispersionAtNmPerPx(model, px[q]));
+    if (P[q].sigma > 0.5 * tolPx && P[q].blended) continue;
+    const tolQ = Math.max(tolPx, 3 * P[q].sigma);
+    // p_i = 2·tol_i·|dλ/dx| · (lines of the covered range inside the peak's colour band) / (covered range), with
+    // tol_i the position tolerance widened, as in the matching, by twice the line's reference uncertainty (a broad
+    // or blended feature catches peaks in a wider window). Counting the lines inside the band, not the band's share
+    // of the range, keeps a lamp whose lines crowd into one colour from looking improbable when its red peaks land on
+    // its many red lines.
+    const band = P[q].band;
+    const bLo = band ? Math.max(band[0], covLo) : covLo;
+    const bHi = band ? Math.min(band[1], covHi) : covHi;
+    const lines = bHi >= bLo ? lowerBound(lw, bHi + 1e-9) - lowerBound(lw, bLo - 1e-9) : 0;
+    if (lines === 0 && !pair) continue;
+    const tolNm = tolQ * disp + 2 * (pair ? lineSigmaNm(ctx, pair) : typicalSigmaNm);
+    inRange++;
+    pSum += Math.min(1, (2 * tolNm * Math.max(lines, 1)) / covWidth);
+    if (pair) {
+      matched++;
+      if (pair.manual) manualPeaks++;
+    }
+  }
+  const pChance = inRange ? pSum / inRange : 1;
+  // Manual pairs are given, not found; the model's parameters are fitted to as many matches: neither is evidence.
+  const free = Math.max(0, parameters - manualPeaks);
+  const mEff = matched - manualPeaks - free;
+  const nEff = Math.max(inRange - manualPeaks - free, 0);
+  const log10Chance = mEff <= 0 ? 0 : log10BinomialTail(mEff, nEff, pChance);
+  return {
+    matched,
+    peaksInRange: inRange,
+    chancePerPeak: pChance,
+    parameters,
+    expectedByChance: free + manualPeaks + nEff * pChance,
+    log10Chance,
+    log10Trials: 0,
+    falseMatchProbability: 1,
+    tolerancePx: tolPx,
+    rmsPx: rmsPx(model, pairs),
+    model: model.kind,
+  };
+}
+
+/**
+ * How many distinct scale hypotheses the search could have produced: pairs of peaks able to count as evidence times
+ * pairs of lines whose spacing ratio lies within the dispersion prior (each fixes a scale and an offset), both
+ * directions when either is allowed. (Weighting by the share of lines each peak's colour admits was tried and let
+ * wrong lamps through in the seeded null sweep: colour agreement between peaks is not independent.) One manual pair leaves peak × line hypotheses; two or more leave one.
+ */
+export function countTrialsLog10(ctx: Ctx): number {
+  const { P, lw, o, manual } = ctx;
+  const xs = P.filter((p) => !p.blended && p.sigma <= 0.5 * o.tolerancePx[1]).map((p) => p.x);
+  if (manual.length >= 2) return 0;
+  if (manual.length === 1) return Math.log10(Math.max(1, xs.length * lw.length));
+  const d = new Float64Array((lw.length * (lw.length - 1)) / 2);
+  let k = 0;
+  for (let a = 0; a < lw.length; a++) for (let b = a + 1; b < lw.length; b++) d[k++] = lw[b] - lw[a];
+  d.sort();
+  let count = 0;
+  for (let i = 0; i < xs.length; i++) {
+    for (let j = i + 1; j < xs.length; j++) {
+      const dx = xs[j] - xs[i];
+      if (!(dx > 0)) continue;
+      count += lowerBound(d, o.dispersionNmPerPx[1] * dx + 1e-12) - lowerBound(d, o.dispersionNmPerPx[0] * dx);
+    }
+  }
+  if (o.direction === 'either') count *= 2;
+  return Math.log10(Math.max(1, count));
+}

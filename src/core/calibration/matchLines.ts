@@ -1,0 +1,354 @@
+import { invalid } from '../errors.js';
+import type { Peak, SpectralLine } from '../types.js';
+import { COLOUR_PRIOR_DEFAULTS, colourBandNm, type ColourPriorOptions } from './colourPrior.js';
+import { fitGrating, type GratingFitOptions } from './gratingModel.js';
+import { type Ctx, lineSigmaNm, nearest, type Pair, type PeakItem, prepareLines, sigmaOf, strength } from './match/context.js';
+import { growSolution, type GrownSolution, refineSolution } from './match/growSolution.js';
+import { fitPairsParsimonious } from './match/quickFit.js';
+import { countTrialsLog10, type MatchScore, scoreSolution } from './match/scoreSolution.js';
+import { tripletSeeds } from './match/tripletSeeds.js';
+import { dispersionAtNmPerPx, wavelengthAtNm, type DispersionModel } from './model.js';
+import type { WeightedPoint } from './polynomialModel.js';
+
+export type { MatchScore } from './match/scoreSolution.js';
+
+/**
+ * Automatic identification of lamp lines among spectrum peaks, with no manual help.
+ *
+ * 1. Hypotheses from spacing ratios (match/tripletSeeds.ts): triplets of peaks whose spacing ratio equals that of
+ *    three lines, the 1-D form of the triangle matching of Valdes et al. (1995, PASP 107, 1119); pruned by the
+ *    dispersion prior, the peak colours and a single manual pair.
+ * 2. Local verification of each hypothesis against its neighbouring peaks, scored against chance.
+ * 3. Growth of the best hypotheses into full solutions and refinement (match/growSolution.ts), the consensus step of
+ *    RANSAC (Fischler & Bolles 1981, Commun. ACM 24, 381).
+ * 4. Significance (match/scoreSolution.ts): matches beyond the model's fitted parameters against the binomial count
+ *    chance gives, times the number of scale hypotheses. The best solution must beat chance by a wide margin, else
+ *    the lamp is declared not to match: a wrong lamp never yields a scale. When the photo's geometry gives priors for
+ *    the physical grating model, the best solutions are scored with it too: its few effective parameters are what the
+ *    physics leaves free, where a polynomial spends four.
+ */
+export interface ManualPair {
+  positionPx: number;
+  wavelengthNm: number;
+}
+
+export interface MatchLinesOptions {
+  /** Plausible |dλ/dx| (nm/px). @default [0.05, 2] */
+  dispersionNmPerPx: [number, number];
+  /** Whether λ grows or falls with position. @default 'either' */
+  direction: 'either' | 'increasing' | 'decreasing';
+  /** Lines outside this interval are never candidates (camera sensitivity). @default [350, 1100] */
+  wavelengthRangeNm: [number, number];
+  /** Known correspondences (position px = wavelength nm); two or more seed the solution directly. @default [] */
+  pairs: ManualPair[];
+  /** A manual pair's position snaps to a peak within this distance (px), taking its centroid. @default 3 */
+  snapPx: number;
+  /** Use peak colours (Peak.rgb) as a coarse prior. @default true */
+  useColour: boolean;
+  colour: ColourPriorOptions;
+  /** At most this many of the strongest peaks take part. @default 60 */
+  maxPeaks: number;
+  /** Strongest peaks that form triplets. @default 24 */
+  seedPeaks: number;
+  /** Locally brightest lines forming triplets, per seed peak. @default 2.5 */
+  seedLinesPerPeak: number;
+  /** Hypotheses grown into full solutions. @default 40 */
+  maxGrown: number;
+  /**
+   * Accept only when chance explains the best solution with at most this probability, after multiplying the
+   * binomial tail by the number of scale hypotheses the search could have tried (Bonferroni's bound for the
+   * look-elsewhere effect; a seeded null sweep of 725 wrong-lamp and random-peak cases stays above it). @default 5e-3
+   */
+  maxFalseMatchProbability: number;
+  /** Fewest matched lines for a solution. @default 3 */
+  minMatches: number;
+  /** Final matching tolerance bounds (px). @default [0.25, 2.5] */
+  tolerancePx: [number, number];
+  /** Priors of the physical model (from the photo's EXIF and geometry), to score solutions with it too. @default null */
+  grating: Partial<GratingFitOptions> | null;
+}
+
+export const MATCH_LINES_DEFAULTS: MatchLinesOptions = {
+  dispersionNmPerPx: [0.05, 2],
+  direction: 'either',
+  wavelengthRangeNm: [350, 1100],
+  pairs: [],
+  snapPx: 3,
+  useColour: true,
+  colour: COLOUR_PRIOR_DEFAULTS,
+  maxPeaks: 60,
+  seedPeaks: 24,
+  seedLinesPerPeak: 2.5,
+  maxGrown: 40,
+  maxFalseMatchProbability: 5e-3,
+  minMatches: 3,
+  tolerancePx: [0.25, 2.5],
+  grating: null,
+};
+
+export interface LineMatch {
+  /** Index into the input peaks, or −1 for a manual pair with no peak near it. */
+  peakIndex: number;
+  positionPx: number;
+  positionUncertaintyPx: number;
+  wavelengthNm: number;
+  /** The line-list entry (absent for a manual pair that names no listed line). */
+  line?: SpectralLine;
+  source: 'matched' | 'manual';
+  /** Measured − predicted position under the matching model (px). */
+  residualPx: number;
+  saturated: boolean;
+  blended: boolean;
+}
+
+export interface MatchResult {
+  accepted: boolean;
+  /** Why the lamp was rejected (empty when accepted). */
+  message: string;
+  matches: LineMatch[];
+  /** The scale the matching converged on (diagnostics; the calibration itself is fitted by fitDispersion). */
+  model: DispersionModel | null;
+  score: MatchScore | null;
+  /** The best solution that maps the peaks differently, if any. */
+  runnerUp: MatchScore | null;
+  hypothesesTested: number;
+  solutionsGrown: number;
+  warnings: string[];
+}
+
+interface Solution extends GrownSolution {
+  score: MatchScore;
+}
+
+/** The search stops once a solution's chance probability falls below 10^this (before the trials factor). */
+const STOP_LOG10_CHANCE = -15;
+/** Solutions rescored with the physical model, best first. */
+const GRATING_RESCORED = 3;
+
+function checkOptions(o: MatchLinesOptions): void {
+  const [dlo, dhi] = o.dispersionNmPerPx;
+  if (!(dlo > 0 && dhi > dlo && Number.isFinite(dhi))) {
+    throw invalid('dispersionNmPerPx', 'an interval [lo, hi] with 0 < lo < hi', o.dispersionNmPerPx);
+  }
+  for (const p of o.pairs) {
+    if (!Number.isFinite(p.positionPx)) throw invalid('pairs', 'a finite position (px)', p.positionPx);
+    if (!(p.wavelengthNm > 0 && Number.isFinite(p.wavelengthNm))) throw invalid('pairs', 'a positive wavelength (nm)', p.wavelengthNm);
+  }
+}
+
+/**
+ * Finds which peaks are which lamp lines (see the module comment for the method). `lines` are the lamp's lines in
+ * air (nm); `peaks` as found in the spectrum, positions in px along the band.
+ */
+export function matchLines(
+  peaks: readonly Peak[],
+  lines: readonly SpectralLine[],
+  options: Partial<MatchLinesOptions> = {},
+): MatchResult {
+  const o: MatchLinesOptions = { ...MATCH_LINES_DEFAULTS, ...options };
+  checkOptions(o);
+  const warnings: string[] = [];
+
+  // Peaks: the strongest, sorted by position.
+  const usable = peaks.map((p, index) => ({ p, index })).filter(({ p }) => Number.isFinite(p.positionPx));
+  usable.sort((a, b) => strength(b.p) - strength(a.p));
+  const chosen = usable.slice(0, o.maxPeaks).sort((a, b) => a.p.positionPx - b.p.positionPx);
+  const P: PeakItem[] = chosen.map(({ p, index }) => ({
+    index,
+    x: p.positionPx,
+    sigma: Math.max(Number.isFinite(p.positionUncertaintyPx) ? p.positionUncertaintyPx : 0.3, 0.05),
+    strength: strength(p),
+    band: o.useColour && !p.saturated ? colourBandNm(p.rgb, o.colour) : null,
+    saturated: p.saturated,
+    blended: p.blended,
+  }));
+  const px = Float64Array.from(P, (p) => p.x);
+  const L = prepareLines(lines, o.wavelengthRangeNm);
+  const lw = Float64Array.from(L, (l) => l.wavelengthNm);
+
+  // Manual pairs: snap to a peak, attach to a listed line when one is within 0.05 nm.
+  const manual: Pair[] = o.pairs.map((pair) => {
+    let peak = -1;
+    if (P.length > 0) {
+      const k = nearest(px, pair.positionPx);
+      if (Math.abs(px[k] - pair.positionPx) <= o.snapPx) peak = k;
+    }
+    let line = -1;
+    if (L.length > 0) {
+      const k = nearest(lw, pair.wavelengthNm);
+      if (Math.abs(lw[k] - pair.wavelengthNm) <= 0.05) line = k;
+    }
+    return { peak, line, x: peak >= 0 ? P[peak].x : pair.positionPx, lambda: pair.wavelengthNm, manual: true };
+  });
+
+  const empty = (message: string): MatchResult => ({
+    accepted: false,
+    message,
+    matches: [],
+    model: null,
+    score: null,
+    runnerUp: null,
+    hypothesesTested: 0,
+    solutionsGrown: 0,
+    warnings,
+  });
+  if (L.length < 2 && manual.length < 2) {
+    return empty(
+      `the lamp has ${L.length} line(s) between ${o.wavelengthRangeNm[0]} and ${o.wavelengthRangeNm[1]} nm: ` +
+        'automatic matching needs at least two (three to check them); give --pairs',
+    );
+  }
+  if (P.length + manual.filter((m) => m.peak < 0).length < 2) {
+    return empty(`${P.length} peak(s) found: a wavelength scale needs at least two lines`);
+  }
+  if (P.length > 0 && P.every((p) => p.saturated)) {
+    warnings.push(`all ${P.length} peaks are saturated: positions are less certain and colours unusable; reduce the exposure`);
+  }
+
+  const fieldPx = Math.max((P.length ? px[px.length - 1] - px[0] : 0), 50);
+  // Largest plausible relative change of dispersion per pixel: about ±25 % across the field of a wide-angle camera
+  // (from the grating equation with β spanning ~20–45°; common practice, no source).
+  const ctx: Ctx = { P, px, L, lw, o, curvature: 0.6 / fieldPx, manual };
+
+  let seeds: Pair[][];
+  let hypothesesTested = 0;
+  if (manual.length >= 2) {
+    seeds = [[]];
+  } else {
+    const h = tripletSeeds(ctx);
+    hypothesesTested = h.tested;
+    seeds = h.seeds;
+  }
+
+  const solutions: Solution[] = [];
+  let grown = 0;
+  for (const seed of seeds) {
+    if (grown >= o.maxGrown) break;
+    // A seed that an existing solution already explains would grow into it.
+    if (seed.length && solutions.some((s) => seed.every((q) => explains(s, q)))) continue;
+    // A solution far beyond chance ends the search: nothing else can beat it by a credible margin.
+    if (grown >= 5 && solutions.some((s) => s.score.log10Chance <= STOP_LOG10_CHANCE)) break;
+    grown++;
+    const sol = growSolution(ctx, [...manual, ...seed]);
+    if (sol) solutions.push({ ...sol, score: scoreSolution(ctx, sol, parametersOf(ctx, sol.pairs)) });
+  }
+  if (solutions.length === 0) {
+    return { ...empty(noMatchMessage(P.length, L.length, null)), hypothesesTested, solutionsGrown: grown };
+  }
+  const byScore = (a: Solution, b: Solution) => a.score.log10Chance - b.score.log10Chance || b.score.matched - a.score.matched;
+  solutions.sort(byScore);
+  if (o.grating) {
+    for (let i = 0; i < Math.min(GRATING_RESCORED, solutions.length); i++) {
+      const g = withGratingModel(ctx, solutions[i], o.grating);
+      if (g && g.score.log10Chance < solutions[i].score.log10Chance) solutions[i] = g;
+    }
+    solutions.sort(byScore);
+  }
+  const log10Trials = countTrialsLog10(ctx);
+  for (const sol of solutions) {
+    sol.score.log10Trials = log10Trials;
+    sol.score.falseMatchProbability = Math.min(1, 10 ** (sol.score.log10Chance + log10Trials));
+  }
+  const best = solutions[0];
+  const centre = (best.pairs[0].x + best.pairs[best.pairs.length - 1].x) / 2;
+  const dBest = Math.abs(dispersionAtNmPerPx(best.model, centre));
+  const runner = solutions.find(
+    (s) => Math.abs(wavelengthAtNm(s.model, centre) - wavelengthAtNm(best.model, centre)) > 3 * best.score.tolerancePx * dBest,
+  );
+  const accepted =
+    best.score.falseMatchProbability <= o.maxFalseMatchProbability &&
+    best.score.matched >= Math.min(o.minMatches, Math.max(2, manual.length));
+  const matches: LineMatch[] = best.pairs.map((q) => {
+    const peak = q.peak >= 0 ? P[q.peak] : null;
+    const src = peak ? peaks[peak.index] : null;
+    const dl = dispersionAtNmPerPx(best.model, q.x);
+    return {
+      peakIndex: peak ? peak.index : -1,
+      positionPx: q.x,
+      positionUncertaintyPx: peak ? peak.sigma : 0.5,
+      wavelengthNm: q.lambda,
+      line: q.line >= 0 ? L[q.line].line : undefined,
+      source: q.manual ? 'manual' : 'matched',
+      residualPx: dl !== 0 ? (q.lambda - wavelengthAtNm(best.model, q.x)) / dl : 0,
+      saturated: src ? src.saturated : false,
+      blended: src ? src.blended : false,
+    };
+  });
+  if (accepted && runner && runner.score.log10Chance - best.score.log10Chance < 2) {
+    warnings.push(
+      `the line identification is ambiguous: another assignment matches ${runner.score.matched} peaks ` +
+        `(chance 1e${runner.score.log10Chance.toFixed(1)}) against ${best.score.matched} (1e${best.score.log10Chance.toFixed(1)}); ` +
+        'check the result or give --pairs',
+    );
+  }
+  return {
+    accepted,
+    message: accepted ? '' : noMatchMessage(P.length, L.length, best.score),
+    matches,
+    model: best.model,
+    score: best.score,
+    runnerUp: runner ? runner.score : null,
+    hypothesesTested,
+    solutionsGrown: grown,
+    warnings,
+  };
+}
+
+/**
+ * Parameters a polynomial solution spends: those of the degree AICc prefers for its final matches (the least
+ * flexible model they support; the search may have used a more flexible one to find them).
+ */
+function parametersOf(ctx: Ctx, pairs: readonly Pair[]): number {
+  const m = fitPairsParsimonious(ctx, pairs);
+  return m ? m.degree + 1 : 2;
+}
+
+function explains(s: Solution, q: Pair): boolean {
+  const d = Math.abs(dispersionAtNmPerPx(s.model, q.x));
+  return Math.abs(wavelengthAtNm(s.model, q.x) - q.lambda) <= 2 * s.score.tolerancePx * d;
+}
+
+/**
+ * The solution refitted, re-matched and rescored with the physical grating model under the given priors; its
+ * parameter count is the fit's effective one (priors pin x0 and f), at least 2. Null when the model does not fit.
+ */
+function withGratingModel(ctx: Ctx, sol: Solution, priors: Partial<GratingFitOptions>): Solution | null {
+  let effective = 4;
+  const fit = (pairs: Pair[], reference: DispersionModel): DispersionModel | null => {
+    const points: WeightedPoint[] = pairs.map((q) => {
+      const d = dispersionAtNmPerPx(reference, q.x);
+      return { xPx: q.x, wavelengthNm: q.lambda, weight: 1 / ((sigmaOf(ctx, q) * d) ** 2 + lineSigmaNm(ctx, q) ** 2) };
+    });
+    const g = fitGrating(points, priors);
+    if (!g) return null;
+    effective = g.effectiveParameters;
+    return g.model;
+  };
+  const start = fit(sol.pairs, sol.model);
+  if (!start) return null;
+  let reference: DispersionModel = start;
+  const refined = refineSolution(ctx, start, sol.pairs, sol.window, (set) => {
+    const m = fit(set, reference);
+    if (m) reference = m;
+    return m;
+  });
+  if (!refined) return null;
+  const score = scoreSolution(ctx, refined, Math.max(2, Math.round(effective)));
+  return { ...refined, score };
+}
+
+function formatProbability(p: number): string {
+  return p >= 0.01 ? p.toFixed(2) : p.toExponential(0);
+}
+
+function noMatchMessage(peaks: number, lines: number, s: MatchScore | null): string {
+  if (!s) {
+    return `no consistent assignment of the lamp's ${lines} lines to the ${peaks} peaks: wrong lamp, or too few lines visible; check --lamp or give --pairs`;
+  }
+  return (
+    `the lamp's lines do not match the peaks: the best assignment matches ${s.matched} of ${s.peaksInRange} peaks, ` +
+    `where chance alone gives ${s.expectedByChance.toFixed(1)}; among the 1e${s.log10Trials.toFixed(1)} scales tried, chance ` +
+    `does as well with probability ${formatProbability(s.falseMatchProbability)}; ` +
+    'wrong lamp, or too few of its lines visible; check --lamp or give --pairs'
+  );
+}

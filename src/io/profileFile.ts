@@ -1,0 +1,101 @@
+import { readFileSync } from 'node:fs';
+import { promises as fs } from 'node:fs';
+import { Ajv, type ErrorObject } from 'ajv';
+import { InputError } from '../core/errors.js';
+import { type InstrumentProfile, profileFromJson, profileToJson } from '../core/calibration/profile.js';
+import { dataPath } from './projectRoot.js';
+import { writeFileAtomic } from './writeAtomic.js';
+
+/**
+ * Instrument profile files (format `glowprint-instrument-profile`, version 1): read with a JSON parse that names the
+ * line and column of a syntax error, the JSON Schema in data/schema/instrument-profile.schema.json (checked with
+ * Ajv), then the core's semantic checks (matrix sizes, symmetric covariances); written atomically after the same
+ * schema check, so no half-written or invalid profile ever replaces a good one.
+ */
+
+let validator: ReturnType<Ajv['compile']> | undefined;
+
+function schemaValidator(): ReturnType<Ajv['compile']> {
+  if (validator) return validator;
+  const schema = JSON.parse(readFileSync(dataPath('schema', 'instrument-profile.schema.json'), 'utf8')) as object;
+  const ajv = new Ajv({ allErrors: true, strict: false });
+  validator = ajv.compile(schema);
+  return validator;
+}
+
+/** The JSON Schema of instrument profiles, as shipped in data/schema. */
+export function instrumentProfileSchema(): object {
+  return JSON.parse(readFileSync(dataPath('schema', 'instrument-profile.schema.json'), 'utf8')) as object;
+}
+
+function describeErrors(errors: ErrorObject[]): string {
+  // The most specific messages first: a wrong value deep inside beats "must match exactly one schema" above it.
+  const useful = errors.filter((e) => e.keyword !== 'oneOf' && e.keyword !== 'if');
+  const shown = (useful.length ? useful : errors).slice(0, 3).map((e) => {
+    const where = e.instancePath ? e.instancePath.slice(1).replace(/\//g, '.') : '(top level)';
+    if (e.keyword === 'required') return `${where === '(top level)' ? '' : `${where}: `}missing field ${JSON.stringify((e.params as { missingProperty: string }).missingProperty)}`;
+    if (e.keyword === 'additionalProperties') return `${where}: unknown field ${JSON.stringify((e.params as { additionalProperty: string }).additionalProperty)}`;
+    if (e.keyword === 'const') return `${where}: must be ${JSON.stringify((e.params as { allowedValue: unknown }).allowedValue)}`;
+    if (e.keyword === 'enum') return `${where}: must be one of ${JSON.stringify((e.params as { allowedValues: unknown }).allowedValues)}`;
+    return `${where}: ${e.message ?? 'invalid'}`;
+  });
+  return shown.join('; ') + (useful.length > 3 ? ` (and ${useful.length - 3} more)` : '');
+}
+
+/** Parses profile text: JSON syntax (NaN and Infinity are not JSON), schema, then the core checks. */
+export function parseProfileText(text: string, source: string): InstrumentProfile {
+  let json: unknown;
+  try {
+    json = JSON.parse(text);
+  } catch (err) {
+    const m = /position (\d+)/.exec((err as Error).message);
+    let where = '';
+    if (m) {
+      const pos = Number(m[1]);
+      const before = text.slice(0, pos);
+      const line = before.split('\n').length;
+      const column = pos - before.lastIndexOf('\n');
+      where = ` at line ${line}, column ${column}`;
+      if (/^(NaN|-?Infinity)/.test(text.slice(pos))) where += ' (NaN and Infinity are not JSON numbers: write a number, or calibrate again)';
+    }
+    throw new InputError(`${source}: not a valid JSON file${where}`, source);
+  }
+  const validate = schemaValidator();
+  const raw = json as Record<string, unknown> | null;
+  // The format and version checks come first and speak for themselves (a newer profile, another kind of file).
+  if (raw && typeof raw === 'object' && !Array.isArray(raw) && raw.format === 'glowprint-instrument-profile' && raw.version === 1) {
+    if (!validate(json)) throw new InputError(`${source}: not a usable instrument profile: ${describeErrors(validate.errors ?? [])}`, source);
+  }
+  return profileFromJson(json, source);
+}
+
+/** Reads and checks a profile file; every problem is one InputError naming the file and the field. */
+export async function readProfile(file: string): Promise<InstrumentProfile> {
+  let text: string;
+  try {
+    text = await fs.readFile(file, 'utf8');
+  } catch (err) {
+    const code = (err as NodeJS.ErrnoException).code;
+    throw new InputError(`${file}: cannot read the profile (${code === 'ENOENT' ? 'no such file' : code ?? (err as Error).message})`, file);
+  }
+  return parseProfileText(text, file);
+}
+
+/** The profile as the JSON text written to disk (checked against the schema first). */
+export function profileText(profile: InstrumentProfile, target = 'profile'): string {
+  const json = profileToJson(profile);
+  const validate = schemaValidator();
+  if (!validate(json)) {
+    throw new InputError(
+      `${target}: the calibration cannot be saved as a valid profile (${describeErrors(validate.errors ?? [])}); ` +
+        'usually a fit without a usable covariance: add lines',
+      target,
+    );
+  }
+  return JSON.stringify(json, null, 2) + '\n';
+}
+
+/** Writes a profile atomically; never over one of `inputs`. */
+export async function writeProfile(file: string, profile: InstrumentProfile, options: { inputs?: readonly string[] } = {}): Promise<void> {
+  await writeFileAtomic(file, profileText(profile, file), { inputs: options.inputs });
+}
