@@ -8,8 +8,8 @@
  *     order at one end (band/coarse.ts);
  *  3. refine the axis by a per-column centroid fit and the slant by slab cross-correlation (band/refine.ts), first on
  *     the decimated image, then at full resolution;
- *  4. measure the height (FWHM of the cross profile) and the length (where the spectrum rises above the noise)
- *     (band/extent.ts), and refine once more on the final extent.
+ *  4. measure the height (FWHM of the cross profile, band/extent.ts) and take the length from the coarse components'
+ *     extent along the refined axis (padded, inside the image, the zero order left out), and refine once more.
  *
  * Direction convention: automatic bands have angleDeg in (−90°, 90°], so position grows to the right (downwards for a
  * vertical band). Which end is blue is not known here; calibration decides and may reverse the band (reverseBand).
@@ -208,7 +208,7 @@ function shiftAcross(band: BandGeometry, offsetPx: number, heightPx: number): Ba
 }
 
 /**
- * The band cut to the extent of its coarse components along the (refined) axis, padded by max(6 px, 1 %) and kept
+ * The band cut to the extent of its coarse components along the (refined) axis, padded by max(12 px, 2 %) and kept
  * inside the image. The components come from the detail layer, so glare beside the band does not lengthen it, and
  * the zero order is not among them.
  */
@@ -221,7 +221,7 @@ function withMemberExtent(band: BandGeometry, ends: PointPx[], width: number, he
     hi = Math.max(hi, p);
   }
   if (!(hi > lo)) return band;
-  const pad = Math.max(6, 0.01 * (hi - lo));
+  const pad = Math.max(12, 0.02 * (hi - lo));
   const [inFrom, inTo] = insideRange(band, width, height);
   return setExtent(band, Math.max(inFrom, lo - pad), Math.min(inTo, hi + pad));
 }

@@ -1,23 +1,19 @@
 /**
- * The band's height, its centre across, and its length along the axis, measured on the band's own samples.
+ * The band's height and its centre across, measured on the band's own samples; where its centre line is inside the
+ * image.
  *
  * Height: the band's cross profile (per row, the median over the bright columns of each column's profile normalised
  * to its flux; background from the outermost rows subtracted); heightPx is its full width at half maximum, the centre
  * the midpoint of the two half-maximum crossings. For a slit image (a flat top with blurred edges) that is the slit
  * image's height; for a Gaussian band its FWHM. The 10 % crossings give the width of the wings, which extraction
  * needs as margin.
- *
- * Length: the spectrum along the whole axis inside the image (core rows, background from rows beyond the band),
- * smoothed over 5 px; the band runs from the first to the last sample above max(5 σ, 0.5 % of the peak), plus a pad
- * of max(6 px, 1 % of the length), clipped to the image. A zero order found on the axis, and everything beyond it,
- * is left out.
  */
-import type { BandGeometry, LinearImage, PointPx } from '../../types.js';
+import type { BandGeometry, LinearImage } from '../../types.js';
 import { columnBackground } from '../extraction/background.js';
 import { neighbourSigma } from '../extraction/profile.js';
 import { sampleBand } from '../sampleBand.js';
 import { type Ambient, subtractAmbient } from './ambient.js';
-import { bandFrame, imageToBandPx } from './frame.js';
+import { bandFrame } from './frame.js';
 
 export interface CrossProfile {
   offsetPx: Float64Array;
@@ -134,106 +130,6 @@ function crossProfileOnce(image: LinearImage, band: BandGeometry, halfWidthPx: n
     profile: { offsetPx: Float64Array.from(q), value },
     complete,
   };
-}
-
-export interface LengthMeasure {
-  /** From and to (px, in the given band's positions). */
-  fromPx: number;
-  toPx: number;
-  /** The centre line's extent inside the image (px). */
-  insideFromPx: number;
-  insideToPx: number;
-  touchesEdge: boolean;
-}
-
-/** The band's extent along its axis, leaving out the zero order (if any) and what lies beyond it. */
-export function measureLength(image: LinearImage, band: BandGeometry, wingPx: number, zeroOrder: PointPx | null): LengthMeasure {
-  const [insideFrom, insideTo] = insideRange(band, image.width, image.height);
-  const H = band.heightPx;
-  const core = Math.max(1, 0.5 * H);
-  const bgFrom = 0.5 * H + wingPx + 3;
-  const bgTo = bgFrom + Math.min(30, Math.max(6, 0.3 * H));
-  const rowStepPx = Math.max(1, (2 * bgTo) / 300);
-  const s = sampleBand(image, band, { halfWidthPx: bgTo, rowStepPx, fromPx: insideFrom, toPx: insideTo, combine: true });
-  const R = s.rows;
-  const N = s.columns;
-  const q = s.offsetPx;
-  const low: [number, number] = [R, -1];
-  const high: [number, number] = [R, -1];
-  for (let j = 0; j < R; j++) {
-    if (Math.abs(q[j]) >= bgFrom) {
-      const side = q[j] < 0 ? low : high;
-      side[0] = Math.min(side[0], j);
-      side[1] = Math.max(side[1], j);
-    }
-  }
-  const bg = columnBackground(s.planes[0], s.valid, N, R, q, low, high, 15);
-  const flux = new Float64Array(N);
-  const plane = s.planes[0];
-  for (let i = 0; i < N; i++) {
-    let f = 0;
-    for (let j = 0, k = i * R; j < R; j++, k++) {
-      if (Math.abs(q[j]) <= core && s.valid[k]) f += plane[k] - (bg.base[i] + q[j] * bg.slope[i]);
-    }
-    flux[i] = f;
-  }
-  const sm = new Float64Array(N);
-  for (let i = 0; i < N; i++) {
-    let t = 0;
-    let n = 0;
-    for (let d = -2; d <= 2; d++) {
-      const k = i + d;
-      if (k >= 0 && k < N) {
-        t += flux[k];
-        n++;
-      }
-    }
-    sm[i] = t / n;
-  }
-  const sigma = neighbourSigma(flux) / Math.sqrt(5);
-  // Allowed range: with a zero order on the axis, only its far side from the band's bulk is cut away.
-  let lo = 0;
-  let hi = N - 1;
-  if (zeroOrder) {
-    const pz = imageToBandPx(band, zeroOrder).positionPx;
-    const iz = Math.round(pz - insideFrom); // one sample per px
-    if (iz >= 0 && iz < N) {
-      let peak = 0;
-      for (let i = 0; i < N; i++) peak = Math.max(peak, sm[i]);
-      const thr = Math.max(5 * sigma, 0.005 * peak);
-      let a = iz;
-      let b = iz;
-      while (a > 0 && sm[a - 1] > thr) a--;
-      while (b < N - 1 && sm[b + 1] > thr) b++;
-      let left = 0;
-      let right = 0;
-      for (let i = 0; i < a; i++) left += Math.max(0, flux[i]);
-      for (let i = b + 1; i < N; i++) right += Math.max(0, flux[i]);
-      if (right >= left) lo = Math.min(N - 1, b + 1);
-      else hi = Math.max(0, a - 1);
-    }
-  }
-  let peak = 0;
-  for (let i = lo; i <= hi; i++) peak = Math.max(peak, sm[i]);
-  const thr = Math.max(5 * sigma, 0.005 * peak);
-  let first = -1;
-  let last = -1;
-  for (let i = lo; i <= hi; i++) {
-    if (sm[i] > thr) {
-      if (first < 0) first = i;
-      last = i;
-    }
-  }
-  if (first < 0) {
-    first = lo;
-    last = hi;
-  }
-  const a = s.positionPx[first];
-  const b = s.positionPx[last];
-  const pad = Math.max(6, 0.01 * (b - a));
-  const fromPx = Math.max(insideFrom, a - pad);
-  const toPx = Math.min(insideTo, b + pad);
-  return { fromPx, toPx, insideFromPx: insideFrom, insideToPx: insideTo, touchesEdge: fromPx <= insideFrom + 0.5 || toPx >= insideTo - 0.5 };
 }
 
 /** Positions (in the band's frame) where its centre line runs inside the image, [from, to]. */
