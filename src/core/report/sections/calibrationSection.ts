@@ -1,5 +1,5 @@
 import type { ReportTable } from '../html.js';
-import { count, plain, withU } from './format.js';
+import { count, likeU, plain, withU } from './format.js';
 import { plotPoints } from './plotPoints.js';
 import { baseName, JsonView } from './read.js';
 import type { ResultSection, SectionOptions } from './types.js';
@@ -34,6 +34,9 @@ export function calibrationSection(json: unknown, options: SectionOptions): Resu
     saturated: l.optBool('saturated') ?? false,
   }));
   const used = lines.filter((l) => l.used).length;
+  // A line's position uncertainty in nm, through the local dispersion (for error bars and residual digits).
+  const uncertaintyNm = (l: { positionUncertaintyPx?: number }): number | undefined =>
+    l.positionUncertaintyPx !== undefined ? Math.abs(l.positionUncertaintyPx * dispersion) : undefined;
   const lamp = lampText(r);
   const lpmm = r.optNum('lines_per_mm') ?? model.optNum('lines_per_mm');
   const lpmmU = r.optNum('lines_per_mm_uncertainty') ?? model.optNum('lines_per_mm_uncertainty');
@@ -56,8 +59,9 @@ export function calibrationSection(json: unknown, options: SectionOptions): Resu
     ? [
         plotPoints({
           document: options.document,
-          points: lines.map((l) => ({ x: l.wavelengthNm, y: l.residualNm, uncertainty: l.positionUncertaintyPx !== undefined ? Math.abs(l.positionUncertaintyPx * dispersion) : undefined, excluded: !l.used })),
-          title: `Calibration residuals (reference − fitted): RMS ${plain(rmsNm, 'nm', 2)}; crossed points were left out`,
+          points: lines.map((l) => ({ x: l.wavelengthNm, y: l.residualNm, uncertainty: uncertaintyNm(l), excluded: !l.used })),
+          title: `Residuals (reference − fitted), RMS ${plain(rmsNm, 'nm', 2)}; crossed: left out of the fit`,
+          yRange: 'included',
           xLabel: 'reference wavelength (nm)',
           yLabel: 'residual (nm)',
           levels: [{ y: 0 }, { y: rmsNm, label: '+RMS' }, { y: -rmsNm, label: '−RMS' }],
@@ -72,9 +76,9 @@ export function calibrationSection(json: unknown, options: SectionOptions): Resu
       withU(l.positionPx, l.positionUncertaintyPx),
       plain(l.wavelengthNm, '', 7),
       l.label,
-      plain(l.residualNm, '', 3),
+      likeU(l.residualNm, uncertaintyNm(l) ?? rmsNm),
       l.used ? 'yes' : 'no',
-      [l.why === 'clipped' ? 'outlier (clipped by the robust fit)' : l.why, l.saturated ? 'saturated peak' : '', l.source === 'manual' ? 'manual pair' : ''].filter(Boolean).join(', '),
+      [EXCLUSION_WORDS[l.why ?? ''] ?? l.why, l.saturated ? 'saturated peak' : '', l.source === 'manual' ? 'manual pair' : ''].filter(Boolean).join(', '),
     ]),
   };
   return {
@@ -90,6 +94,13 @@ export function calibrationSection(json: unknown, options: SectionOptions): Resu
     },
   };
 }
+
+/** Why a line was left out of the fit, in words. */
+const EXCLUSION_WORDS: Record<string, string> = {
+  clipped: 'outlier (clipped by the robust fit)',
+  blended: 'blended with a neighbour',
+  imprecise: 'wavelength too uncertain as the camera records it (blend or broad band)',
+};
 
 /** The lamp as the result names it: a string, a list, or an object with a name. */
 function lampText(r: JsonView): string | undefined {

@@ -1,6 +1,6 @@
 import { PALETTE } from '../../plot/chart.js';
 import type { ReportTable } from '../html.js';
-import { capitalise, count, percent, plain, withU } from './format.js';
+import { capitalise, count, likeU, percent, plain, withU } from './format.js';
 import { plotSticks, type Stick } from './plotSticks.js';
 import { baseName, JsonView } from './read.js';
 import { peakNotes, readPeak, type PeakRow } from './spectrumSection.js';
@@ -53,23 +53,28 @@ export function identificationSection(json: unknown, options: SectionOptions): R
     fluxFraction: s.num('flux_fraction'),
     missingLinesNm: s.has('missing_lines_nm') ? s.numbers('missing_lines_nm') : [],
   }));
-  const peaks: IdentifiedRow[] = r.objects('peaks').map((p) => {
+  // Line strength for the plot: the peak's height, else its area (identify reports areas), else all drawn equal.
+  const peakViews = r.objects('peaks');
+  const strength = peakViews.every((p) => p.has('height')) ? 'height' : peakViews.every((p) => p.has('area')) ? 'area' : null;
+  const peaks: IdentifiedRow[] = peakViews.map((p) => {
     const line = p.optObj('line');
     return {
-      ...readPeak(p.has('height') ? p : new JsonView({ ...p.value, height: 1 }, p.path)),
+      ...readPeak(new JsonView({ ...p.value, height: strength ? p.num(strength) : 1 }, p.path)),
       line: line ? { element: line.str('element'), spectrum: line.optStr('spectrum'), wavelengthNm: line.num('wavelength_nm') } : null,
       confidence: p.optNum('confidence'),
     };
   });
-  const hasHeights = r.objects('peaks').every((p) => p.has('height'));
-  const calibration = r.obj('calibration');
-  const from = calibration.str('from');
-  const calRms = calibration.optNum('rms_nm');
+  const hasHeights = strength !== null;
+  // null: no wavelength scale (no profile, and no lamp's lines fit the peaks), so nothing could be identified.
+  const calibration = r.optObj('calibration');
+  const from = calibration?.str('from') ?? 'none';
+  const calRms = calibration?.optNum('rms_nm');
   const laser = r.optObj('laser');
   const present = species.filter((s) => s.present).sort((a, b) => b.fluxFraction - a.fluxFraction || b.score - a.score);
   const unexplained = peaks.filter((p) => p.line === null && p.wavelengthNm !== undefined);
   const unexplainedFlux = r.optNum('unexplained_flux_fraction');
-  const selfNote = from === 'self' ? ' (the wavelength scale came from the spectrum itself: lower confidence)' : '';
+  const selfNote = from === 'self' ? ' — wavelength scale from the spectrum’s own lines, so the confidence is lowered' : '';
+  const measure = strength === 'area' ? 'flux' : 'height';
 
   let verdict: string;
   let result: string;
@@ -79,7 +84,12 @@ export function identificationSection(json: unknown, options: SectionOptions): R
     verdict = `Laser line at ${withU(laser.num('wavelength_nm'), laser.optNum('wavelength_uncertainty_nm'), 'nm')}${best ? ` — consistent with ${best.str('name')}${best.has('nominal_wavelength_nm') ? ` (${plain(best.num('nominal_wavelength_nm'))} nm)` : ''}` : ' — no known laser kind emits there'}`;
     result = best ? `laser: ${best.str('name')}` : 'laser line';
   } else if (present.length === 0) {
-    verdict = r.optBool('emission_lines_found') === false ? 'No emission lines found: nothing is identified' : 'No species identified with confidence';
+    verdict =
+      r.optBool('emission_lines_found') === false
+        ? 'No emission lines found: nothing is identified'
+        : !calibration
+          ? 'Not identified: no wavelength scale (no lamp’s line pattern fits these peaks); calibrate the rig and give --calibration'
+          : 'No species identified with confidence';
     result = 'not identified';
   } else {
     const [main, ...others] = present;
@@ -92,16 +102,27 @@ export function identificationSection(json: unknown, options: SectionOptions): R
   if (file) figures.push(['Photo', file]);
   figures.push([
     'Wavelength scale',
-    from === 'self'
-      ? `from the spectrum's own lines${calibration.has('lamp') ? ` (${calibration.str('lamp')} pattern)` : ''}${calRms !== undefined ? `, RMS ${plain(calRms, 'nm', 2)}` : ''}`
-      : `${calibration.optStr('file') ?? calibration.optStr('profile') ?? 'instrument profile'}${calRms !== undefined ? `, RMS ${plain(calRms, 'nm', 2)}` : ''}`,
+    !calibration
+      ? 'none: the spectrum did not calibrate itself'
+      : from === 'self'
+        ? `from the spectrum's own lines${calibration.has('lamp') ? ` (${calibration.str('lamp')} lines${calibration.has('lines_used') ? `, ${calibration.num('lines_used')} used` : ''})` : ''}${calRms !== undefined ? `, RMS ${plain(calRms, 'nm', 2)}` : ''}${calibration.has('probability') ? `, probability ${calibration.num('probability').toFixed(3)} that this scale is the right one` : ''}`
+        : from === 'file'
+          ? "from the spectrum file's own wavelength axis"
+          : `${calibration.optStr('file') ?? calibration.optStr('profile') ?? 'instrument profile'}${calibration.has('lamp') ? ` (${calibration.str('lamp')} lamp)` : ''}${calRms !== undefined ? `, RMS ${plain(calRms, 'nm', 2)}` : ''}`,
   ]);
   if (present.length) {
     figures.push(['Present', present.map((s) => `${speciesName(s.element)} ${percent(s.fluxFraction, 0)} of the flux`).join('; ')]);
   }
   const absent = species.filter((s) => !s.present).slice(0, 3);
   if (absent.length) figures.push(['Next candidates (judged absent)', absent.map((s) => `${speciesName(s.element)} (score ${s.score.toFixed(2)})`).join(', ')]);
-  figures.push(['Unexplained peaks', `${unexplained.length}${unexplainedFlux !== undefined ? `, ${percent(unexplainedFlux)} of the peak flux` : ''}${unexplained.length ? ' — listed below' : ''}`]);
+  if (calibration) {
+    figures.push([
+      'Unexplained peaks',
+      unexplained.length
+        ? `${unexplained.length}${unexplainedFlux !== undefined ? `, ${percent(unexplainedFlux)} of the peak flux` : ''}: no present species explains them (a contaminant, molecular bands, stray light, a second order) — listed below`
+        : 'none',
+    ]);
+  }
   if (laser) {
     const cands = laser.optObjects('candidates');
     if (cands.length) figures.push(['Laser kinds that fit', cands.map((c) => `${c.str('name')}${c.has('deviation_sigma') ? ` (${plain(c.num('deviation_sigma'), 'σ', 2)} off)` : ''}`).join(', ')]);
@@ -125,9 +146,9 @@ export function identificationSection(json: unknown, options: SectionOptions): R
         plotSticks({
           document: options.document,
           sticks,
-          title: `${item}: peaks labelled with their lines${hasHeights ? '' : ' (heights not in the result: all drawn equal)'}`,
+          title: `${item}: peaks labelled with their lines${hasHeights ? '' : ' (strengths not in the result: all drawn equal)'}`,
           xLabel: 'wavelength (nm)',
-          yLabel: hasHeights ? 'peak height (relative)' : 'peak',
+          yLabel: strength === 'area' ? 'line flux (peak area, relative)' : hasHeights ? 'peak height (relative)' : 'peak',
           yScale: hasHeights ? 'auto' : 'linear',
           legend: [
             ...present.map((s) => [speciesName(s.element), colourOf.get(s.element)!] as const),
@@ -137,8 +158,9 @@ export function identificationSection(json: unknown, options: SectionOptions): R
       ]
     : [];
 
-  const tables: ReportTable[] = [
-    {
+  const tables: ReportTable[] = [];
+  if (species.length) {
+    tables.push({
       caption: 'Species, by score (score 0–1: 0.5 at the presence threshold)',
       columns: ['species', 'present', 'score', 'lines matched', 'share of the flux', 'strong lines missing (nm)'],
       numeric: [2, 3, 4],
@@ -150,27 +172,27 @@ export function identificationSection(json: unknown, options: SectionOptions): R
         percent(s.fluxFraction),
         s.missingLinesNm.length ? s.missingLinesNm.map((w) => w.toFixed(1)).join(', ') : '',
       ]),
-    },
-  ];
-  if (unexplained.length) {
-    tables.push({
-      caption: `Unexplained lines (${unexplained.length}): no present species accounts for them — a contaminant, a molecular band, stray light or a second order`,
-      columns: ['wavelength (nm)', 'height', 'note'],
-      numeric: [0, 1],
-      rows: [...unexplained].sort((a, b) => b.height - a.height).map((p) => [withU(p.wavelengthNm, p.wavelengthUncertaintyNm), hasHeights ? plain(p.height, '', 4) : undefined, peakNotes(p)]),
     });
   }
-  tables.push({
+  if (unexplained.length) {
+    tables.push({
+      caption: `Unexplained lines (${unexplained.length}), strongest first`,
+      columns: ['wavelength (nm)', strength === 'area' ? 'flux (area)' : 'height', 'note'],
+      numeric: [0, 1],
+      rows: [...unexplained].sort((a, b) => b.height - a.height).map((p) => [withU(p.wavelengthNm, p.wavelengthUncertaintyNm), hasHeights ? plain(p.height, '', 4) : undefined, peakNotes(p, measure)]),
+    });
+  }
+  if (peaks.length) tables.push({
     caption: `Peaks (${peaks.length})`,
     columns: ['wavelength (nm)', 'line', 'tabulated (nm)', 'measured − tabulated (nm)', 'confidence', 'note'],
     numeric: [0, 2, 3, 4],
     rows: peaks.map((p) => [
       withU(p.wavelengthNm, p.wavelengthUncertaintyNm),
       p.line ? `${p.line.spectrum ?? p.line.element}` : 'unexplained',
-      p.line ? plain(p.line.wavelengthNm, '', 7) : undefined,
-      p.line && p.wavelengthNm !== undefined ? plain(p.wavelengthNm - p.line.wavelengthNm, '', 2) : undefined,
+      p.line ? p.line.wavelengthNm.toFixed(3) : undefined,
+      p.line && p.wavelengthNm !== undefined ? likeU(p.wavelengthNm - p.line.wavelengthNm, p.wavelengthUncertaintyNm) : undefined,
       p.confidence === undefined ? undefined : p.confidence.toFixed(2),
-      peakNotes(p),
+      peakNotes(p, measure),
     ]),
   });
 
@@ -184,7 +206,9 @@ export function identificationSection(json: unknown, options: SectionOptions): R
       result,
       keyFigure: laser
         ? withU(laser.num('wavelength_nm'), laser.optNum('wavelength_uncertainty_nm'), 'nm')
-        : `${present.length ? `score ${present[0].score.toFixed(2)}, ` : ''}${count(unexplained.length, 'unexplained line')}${from === 'self' ? ', self-calibrated' : ''}`,
+        : !calibration
+          ? 'no wavelength scale'
+          : `${present.length ? `score ${present[0].score.toFixed(2)}, ` : ''}${count(unexplained.length, 'unexplained line')}${from === 'self' ? ', self-calibrated' : ''}`,
       warnings: warnings.length,
     },
   };

@@ -73,7 +73,7 @@ export function sectionFromResult(json: unknown, options: SectionOptions): Resul
 
 /** The results in one JSON value: a single result, or a batch `{"results": [...]}`. */
 export function unpackResults(json: unknown): unknown[] {
-  if (isRecord(json) && Array.isArray(json.results) && json.command === undefined) return json.results;
+  if (isRecord(json) && Array.isArray(json.results)) return json.results;
   return [json];
 }
 

@@ -91,7 +91,7 @@ export function modesSection(json: unknown, options: SectionOptions): ResultSect
           colour: m.lasing ? PALETTE.series[0] : PALETTE.muted,
           hollow: !m.lasing,
         })),
-        title: `Mode comb${modesFrom ? ` of ${baseName(modesFrom)}` : ''}: ${count(modeCount, 'lasing mode')}${gainFwhm !== undefined ? `, gain FWHM ${frequency(gainFwhm)}` : ''}`,
+        title: `Mode powers${modesFrom ? ` (${baseName(modesFrom)})` : ''}: ${modeCount} lasing`,
         xLabel: 'offset from the strongest mode (MHz)',
         yLabel: 'relative power',
         curve,

@@ -1,5 +1,6 @@
 import * as d3 from 'd3';
 import { chartToSvgText, createChart, PALETTE } from '../../plot/chart.js';
+import { formatNumber } from '../html.js';
 
 /** One measured point with its standard uncertainty. */
 export interface PlotPoint {
@@ -31,6 +32,11 @@ export interface PlotPointsOptions {
   includeZero?: boolean;
   /** Ticks on whole numbers only (diffraction orders). @default false */
   xIntegerTicks?: boolean;
+  /**
+   * 'included': the vertical range follows the points used (not excluded), so that one wild outlier does not flatten
+   * the rest; excluded points beyond it are pinned to the edge with a ▲/▼ and their value. @default 'all'
+   */
+  yRange?: 'all' | 'included';
 }
 
 export const PLOT_POINTS_DEFAULTS = { widthPx: 720, heightPx: 300 } as const;
@@ -39,7 +45,8 @@ export const PLOT_POINTS_DEFAULTS = { widthPx: 720, heightPx: 300 } as const;
 export function plotPoints(options: PlotPointsOptions): string {
   const pts = options.points.filter((p) => Number.isFinite(p.x) && Number.isFinite(p.y));
   const ys: number[] = [];
-  for (const p of pts) ys.push(p.y - (p.uncertainty ?? 0), p.y + (p.uncertainty ?? 0));
+  const ranged = options.yRange === 'included' && pts.some((p) => !p.excluded) ? pts.filter((p) => !p.excluded) : pts;
+  for (const p of ranged) ys.push(p.y - (p.uncertainty ?? 0), p.y + (p.uncertainty ?? 0));
   for (const l of options.levels ?? []) ys.push(l.y);
   for (const q of options.line ?? []) ys.push(q[1]);
   if (options.includeZero) ys.push(0);
@@ -93,14 +100,33 @@ export function plotPoints(options: PlotPointsOptions): string {
   const g = plot.append('g').attr('class', 'points');
   for (const p of pts) {
     const cx = x(p.x);
+    if (p.y > y1 || p.y < y0) {
+      // Off the scale: a triangle at the edge pointing the way, with the value.
+      const up = p.y > y1;
+      const edge = up ? 4 : chart.innerHeightPx - 4;
+      g.append('path')
+        .attr('class', 'offscale')
+        .attr('d', up ? `M${cx},${edge - 4}l-5,8h10z` : `M${cx},${edge + 4}l-5,-8h10z`)
+        .attr('fill', p.excluded ? '#ffffff' : PALETTE.ink)
+        .attr('stroke', p.excluded ? PALETTE.marker : PALETTE.ink);
+      const right = cx > chart.innerWidthPx / 2;
+      g.append('text')
+        .attr('x', right ? cx - 8 : cx + 8)
+        .attr('y', up ? edge + 8 : edge)
+        .attr('text-anchor', right ? 'end' : 'start')
+        .attr('font-size', 10)
+        .attr('fill', PALETTE.marker)
+        .text(`${formatNumber(p.y, 3)}${p.label ? ' ' + p.label : ''}`);
+      continue;
+    }
     const cy = y(p.y);
     if (p.uncertainty !== undefined && p.uncertainty > 0) {
       g.append('line')
         .attr('class', 'error-bar')
         .attr('x1', cx)
         .attr('x2', cx)
-        .attr('y1', y(p.y - p.uncertainty))
-        .attr('y2', y(p.y + p.uncertainty))
+        .attr('y1', y(Math.max(y0, p.y - p.uncertainty)))
+        .attr('y2', y(Math.min(y1, p.y + p.uncertainty)))
         .attr('stroke', PALETTE.ink);
     }
     g.append('circle')

@@ -166,10 +166,14 @@ export function plotSticks(options: PlotSticksOptions): string {
       .text(s.label!);
   }
   if (options.legend && options.legend.length > 0) {
-    const key = plot.append('g').attr('class', 'legend').attr('transform', 'translate(8,4)');
+    // In the title row, right-aligned, where it covers no stick or label (about 6 px per character at 11 px).
+    const widths = options.legend.map(([label]) => 15 + 6 * label.length + 14);
+    let xKey = widthPx - 18 - widths.reduce((a, b) => a + b, 0);
+    const key = chart.svg.append('g').attr('class', 'legend');
     options.legend.forEach(([label, colour], i) => {
-      key.append('rect').attr('x', 0).attr('y', 14 * i).attr('width', 10).attr('height', 10).attr('fill', colour);
-      key.append('text').attr('x', 15).attr('y', 14 * i + 9).attr('fill', PALETTE.ink).text(label);
+      key.append('rect').attr('x', xKey).attr('y', 11).attr('width', 10).attr('height', 10).attr('fill', colour);
+      key.append('text').attr('x', xKey + 15).attr('y', 20).attr('fill', PALETTE.ink).text(label);
+      xKey += widths[i];
     });
   }
   return chartToSvgText(chart);

@@ -33,9 +33,9 @@ export function readPeak(p: JsonView): PeakRow {
   };
 }
 
-/** The flags of a peak in words. */
-export function peakNotes(p: PeakRow): string {
-  return [p.saturated ? 'clipped (height is a lower bound)' : '', p.blended ? 'blended' : ''].filter(Boolean).join(', ');
+/** The flags of a peak in words; `measure` names what a clipped peak understates (its height, its flux). */
+export function peakNotes(p: PeakRow, measure = 'height'): string {
+  return [p.saturated ? `clipped (${measure} is a lower bound)` : '', p.blended ? 'blended' : ''].filter(Boolean).join(', ');
 }
 
 /**

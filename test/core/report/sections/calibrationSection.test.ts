@@ -47,13 +47,21 @@ describe('calibrationSection(json, {document})', () => {
     expect(summary).toMatchObject({ item: 'cfl.jpg', measurement: 'Wavelength calibration' });
   });
 
-  it('plots every line’s residual, the clipped one crossed, with ±RMS levels', () => {
+  it('plots every line’s residual with ±RMS levels, scaled to the lines used: the far outlier pinned to the edge with its value', () => {
     const json = fluorescent();
     const { section } = calibrationSection(json, { document });
     const svg = parseSvg(section.svgs![0]);
-    expect(svg.querySelectorAll('g.points circle').length).toBe(5);
-    expect(svg.querySelectorAll('path.excluded').length).toBe(1);
+    expect(svg.querySelectorAll('g.points circle').length).toBe(4);
+    const pinned = svg.querySelectorAll('path.offscale');
+    expect(pinned.length).toBe(1);
+    expect(pinned[0].getAttribute('stroke')).not.toBe(svg.querySelector('g.points circle')!.getAttribute('stroke'));
+    expect([...svg.querySelectorAll('g.points text')].map((t) => t.textContent)).toContain('0.61');
     expect(svg.querySelectorAll('line.level').length).toBe(3);
+    // A moderate outlier stays on the scale, crossed.
+    json.lines[3].residual_nm = 0.06;
+    const near = parseSvg(calibrationSection(json, { document }).section.svgs![0]);
+    expect(near.querySelectorAll('path.excluded').length).toBe(1);
+    expect(near.querySelectorAll('path.offscale').length).toBe(0);
     const note = section.tables![0].rows[3][5];
     expect(plainText(String(note))).toBe('outlier (clipped by the robust fit)');
   });

@@ -81,7 +81,7 @@ describe('identificationSection(json, {document})', () => {
     const json = { ...neonWithMercury(), calibration: { from: 'self', rms_nm: 0.3, lamp: 'Ne' } };
     expect(validate(json)).toBe(true);
     const { section, summary } = identificationSection(json, { document });
-    expect(section.verdict).toMatch(/the wavelength scale came from the spectrum itself: lower confidence\)$/);
+    expect(section.verdict).toMatch(/— wavelength scale from the spectrum’s own lines, so the confidence is lowered$/);
     expect(summary.keyFigure).toMatch(/self-calibrated$/);
   });
 
