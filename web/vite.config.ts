@@ -8,11 +8,17 @@ const here = path.dirname(fileURLToPath(import.meta.url));
 export default defineConfig({
   root: here,
   base: './',
+  resolve: {
+    // The core reads CSV with csv-parse; its Node build needs Buffer, its browser build carries what it needs.
+    alias: [{ find: /^csv-parse\/sync$/, replacement: 'csv-parse/browser/esm/sync' }],
+  },
   build: {
     outDir: path.resolve(here, '../dist/web'),
     emptyOutDir: true,
     sourcemap: true,
     chunkSizeWarningLimit: 2000,
   },
+  // The analysis worker is an ES module (it shares the core's chunks with the page).
+  worker: { format: 'es' },
   server: { port: 5178, strictPort: false },
 });
