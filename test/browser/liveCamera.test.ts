@@ -68,6 +68,12 @@ describe.runIf(browserSuite === 'run')('the live camera bench with Chromium\'s f
       expect(Math.min(...truthPeakNm.map((t) => Math.abs(t - nm)))).toBeLessThanOrEqual(1);
     }
     await harness.shot(page, 'live-capture-identified');
+    // The tube's own scale, taken as the rig's: back to live, the live spectrum is drawn in nanometres.
+    await page.click('#use-self-scale');
+    await page.waitForFunction(() => /self-calibrated from the spectrum/.test(document.getElementById('scale-summary')?.textContent ?? ''));
+    await page.click('#resume');
+    await page.waitForFunction(() => document.getElementById('spectrum-card')?.dataset.mode === 'live' && document.querySelector('#spectrum-card text.x-label')?.textContent === 'wavelength (nm, air)');
+    await harness.shot(page, 'live-in-nm');
     expect(errors).toEqual([]);
   });
 });

@@ -135,8 +135,9 @@ describe('POST /api/calibrate and the instrument profile', () => {
   it('calibrates the fluorescent-lamp demo photo, saves the profile, and the saved profile validates on PUT', async () => {
     const { status, json } = await post('calibrate', form([{ field: 'image', file: path.join(DEMO, 'cfl-calibration.jpg') }], { lamp: 'fluorescent', save: 'bench-cfl' }));
     expect(status).toBe(200);
-    expect(json.format).toBe('glowprint-instrument-profile');
-    expect(json.saved).toBe('bench-cfl');
+    expect(json.instrument_profile.format).toBe('glowprint-instrument-profile');
+    expect(json.profile).toBe('bench-cfl');
+    expect(json.input.file).toBe('cfl-calibration.jpg');
     expect(json.rms_nm).toBeGreaterThan(0);
     expect(json.rms_nm).toBeLessThanOrEqual(0.35);
     expect(json.range_nm[0]).toBeLessThan(json.range_nm[1]);
@@ -147,8 +148,9 @@ describe('POST /api/calibrate and the instrument profile', () => {
     // Demo rig truth (data/demo/truth.json): a 1000 lines/mm grating; the grating model reports it when chosen.
     if (json.model.kind === 'grating') expect(Math.abs(json.lines_per_mm - 1000)).toBeLessThanOrEqual(3 * json.lines_per_mm_uncertainty + 5);
     const saved = await (await fetch(`${server.url}/api/profiles/bench-cfl`)).json();
+    expect(saved).toEqual(json.instrument_profile);
     expect(saved.rms_nm).toBe(json.rms_nm);
-    const { saved: _s, match: _m, warnings: _w, ...profile } = json;
+    const profile = json.instrument_profile;
     const put = await fetch(`${server.url}/api/profiles/bench-copy`, { method: 'PUT', headers: { 'content-type': 'application/json' }, body: JSON.stringify(profile) });
     expect(put.status).toBe(200);
     const damaged = { ...profile, model: { ...profile.model, covariance: 'oops' } };
@@ -183,7 +185,8 @@ describe('POST /api/identify', () => {
   it('with a saved profile: tube B is argon with mercury, and its Ar I lines sit on NIST wavelengths', async () => {
     const { status, json } = await post('identify', form([{ field: 'image', file: path.join(DEMO, 'tube-b.jpg') }], { profile: 'bench-cfl' }));
     expect(status).toBe(200);
-    expect(json.calibration).toMatchObject({ from: 'profile', profile: 'bench-cfl' });
+    expect(json.profile).toBe('bench-cfl');
+    expect(json.calibration.from).toBe('profile');
     expect(json.species.filter((s: { present: boolean }) => s.present).map((s: { element: string }) => s.element).sort()).toEqual(['Ar', 'Hg']);
     const ar = nistAir('Ar', 'I');
     const arPeaks = json.peaks.filter((p: { line: { spectrum: string } | null }) => p.line?.spectrum === 'Ar I');

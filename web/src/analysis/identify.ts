@@ -1,51 +1,67 @@
 /**
- * "Which gas is in this tube": the core's identification on a capture, with a profile (the peaks get wavelengths from
- * it) or without one (the spectrum calibrates itself from the candidate lamps' line patterns and says so), plus the
- * laser check for a single dominant line. Mirrors what `glowprint identify` reports.
+ * "Which gas is in this tube": the core's identifySpectrum on a capture, with the scale the CLI would use
+ * (src/cli/identify.ts identifyFile): a profile's (the peaks and the samples carried onto its band), the CSV's own
+ * wavelength axis, or — with neither — the spectrum's own lines (self-calibration, said so and with lowered
+ * confidence). A single dominant line is reported as a laser with its likely kinds.
  */
+import { wavelengthAtNm } from '../../../src/core/calibration/model.js';
 import type { InstrumentProfile } from '../../../src/core/calibration/profile.js';
-import { detectLaser, type LaserResult } from '../../../src/core/identify/detectLaser.js';
-import { identifySelfCalibrated, type SelfCalibration } from '../../../src/core/identify/identifySelfCalibrated.js';
-import { identifySpecies, IDENTIFY_DEFAULTS, type CalibratedPeak, type Identification } from '../../../src/core/identify/identifySpecies.js';
+import type { CalibrationScale } from '../../../src/core/calibration/uncertainty.js';
+import type { CalibratedPeak } from '../../../src/core/identify/identifySpecies.js';
+import { identifySpectrum, type IdentifyInput, type SpectrumIdentification } from '../../../src/core/identify/identifySpectrum.js';
 import { lampCatalog } from '../data/catalog.js';
 import type { SpectrumCapture } from './pipeline.js';
-import { applyProfile } from './scale.js';
+import { applyProfile, sampleWavelengths } from './scale.js';
 
 export interface IdentifyOutcome {
-  identification: Identification;
-  calibration: { from: 'profile'; rmsNm: number; lamp: string } | (Omit<SelfCalibration, 'fit'> & { fit: SelfCalibration['fit'] }) | { from: 'file'; rmsNm: null } | null;
-  laser: LaserResult | null;
+  identification: SpectrumIdentification;
+  /** Wavelength of every sample on the scale used, null when there is none. */
+  sampleWavelengthNm: Float64Array | null;
   warnings: string[];
 }
 
-/** Identification of a capture; `profile` null → self-calibrating (or the file's own wavelengths for a CSV that has them). */
+/** Identification of a capture; `profile` null → the file's own wavelengths, else self-calibration. */
 export function identifyCapture(capture: SpectrumCapture, profile: InstrumentProfile | null): IdentifyOutcome {
   const { lines, lasers } = lampCatalog();
   const warnings: string[] = [];
+  const pos = capture.spectrum.positionPx;
+  let input: IdentifyInput;
+  let sampleWavelengthNm: Float64Array | null = null;
   if (profile) {
     const applied = applyProfile(capture, profile);
     warnings.push(...applied.warnings);
-    const peaks = applied.peaks.filter((p) => Number.isFinite(p.wavelengthNm) && Number.isFinite(p.wavelengthUncertaintyNm));
-    const systematicNm = Math.max(profile.rmsNm, IDENTIFY_DEFAULTS.systematicNm);
-    const identification = identifySpecies(peaks, { lines, systematicNm });
-    const laser = detectLaser(peaks, { kinds: lasers, systematicNm });
-    return { identification, calibration: { from: 'profile', rmsNm: profile.rmsNm, lamp: profile.lamp }, laser, warnings: [...warnings, ...identification.warnings] };
+    sampleWavelengthNm = sampleWavelengths(pos, capture.band, profile);
+    input = {
+      from: 'profile',
+      peaks: applied.peaks.filter((p) => Number.isFinite(p.wavelengthNm) && Number.isFinite(p.wavelengthUncertaintyNm)),
+      rmsNm: profile.rmsNm,
+      coveredRangeNm: range(sampleWavelengthNm),
+      lamp: profile.lamp,
+    };
+  } else if (capture.spectrum.wavelengthNm) {
+    sampleWavelengthNm = capture.spectrum.wavelengthNm;
+    input = { from: 'file', peaks: capture.peaks as CalibratedPeak[], coveredRangeNm: range(sampleWavelengthNm) };
+  } else {
+    input = { from: 'self', peaks: capture.peaks, positionRangePx: [pos[0], pos[pos.length - 1]] };
   }
-  if (capture.spectrum.wavelengthNm && capture.peaks.every((p) => p.wavelengthNm !== undefined)) {
-    const peaks = capture.peaks as CalibratedPeak[];
-    const identification = identifySpecies(peaks, { lines });
-    const laser = detectLaser(peaks, { kinds: lasers });
-    return { identification, calibration: { from: 'file', rmsNm: null }, laser, warnings: identification.warnings };
+  const identification = identifySpectrum(input, { lines, lasers });
+  if (identification.scale) sampleWavelengthNm = Float64Array.from(pos, (x) => wavelengthAtNm(identification.scale!.model, x));
+  return { identification, sampleWavelengthNm, warnings: [...warnings, ...identification.warnings] };
+}
+
+/** The self-calibrated scale of an identification, if it made one. */
+export function selfScale(outcome: IdentifyOutcome | null): CalibrationScale | null {
+  return outcome?.identification.calibration?.from === 'self' ? (outcome.identification.scale ?? null) : null;
+}
+
+/** Wavelength range covered (nm, ascending) — what camera can see at all, 350–1000 nm, bounds it as in the CLI. */
+function range(wl: Float64Array): [number, number] {
+  let lo = Infinity;
+  let hi = -Infinity;
+  for (const v of wl) {
+    if (!Number.isFinite(v)) continue;
+    if (v < lo) lo = v;
+    if (v > hi) hi = v;
   }
-  const positions = capture.spectrum.positionPx;
-  const self = identifySelfCalibrated(capture.peaks, {
-    lines,
-    positionRangePx: [positions[0], positions[positions.length - 1]],
-  });
-  let laser: LaserResult | null = null;
-  if (self.calibration) {
-    laser = detectLaser(self.peaks, { kinds: lasers, systematicNm: Math.max(self.calibration.rmsNm, IDENTIFY_DEFAULTS.systematicNm) });
-  }
-  const { calibration, candidates: _candidates, ...identification } = self;
-  return { identification, calibration, laser, warnings: self.warnings };
+  return [Math.max(350, lo), Math.min(1000, hi)];
 }

@@ -6,7 +6,9 @@
 import { calibrateFromPeaks, gratingPriors, type CalibrationResult } from '../../../src/core/calibration/calibrate.js';
 import type { DispersionFit, ModelChoice } from '../../../src/core/calibration/fitDispersion.js';
 import type { ManualPair } from '../../../src/core/calibration/matchLines.js';
-import { wavelengthAtNm } from '../../../src/core/calibration/model.js';
+import { dispersionAtNmPerPx, wavelengthAtNm } from '../../../src/core/calibration/model.js';
+import type { CalibrationScale } from '../../../src/core/calibration/uncertainty.js';
+import type { CalibrationSummary } from '../../../src/core/identify/identifySpectrum.js';
 import {
   applyProfileToPeaks,
   buildProfile,
@@ -86,6 +88,36 @@ export function profileFromFit(
     createdAt: new Date().toISOString(),
     software: { ...SOFTWARE },
   });
+}
+
+/**
+ * The scale a spectrum gave itself (self-calibrating identification) as an instrument profile, so later captures of
+ * the same rig can use it. The profile records it (lamp `self:<lamp>`); the matched lines themselves are not listed.
+ */
+export function profileFromSelfScale(
+  scale: CalibrationScale,
+  summary: CalibrationSummary,
+  capture: SpectrumCapture,
+  camera: CameraSummary | null,
+): InstrumentProfile {
+  const [x0, x1] = scale.rangePx;
+  const a = wavelengthAtNm(scale.model, x0);
+  const b = wavelengthAtNm(scale.model, x1);
+  const dispersion = dispersionAtNmPerPx(scale.model, (x0 + x1) / 2);
+  const rmsNm = summary.rmsNm ?? 0;
+  const fit = {
+    model: scale.model,
+    checkModel: scale.checkModel,
+    rangePx: [x0, x1],
+    rangeNm: [Math.min(a, b), Math.max(a, b)],
+    dispersionNmPerPx: dispersion,
+    rmsNm,
+    rmsPx: rmsNm / Math.abs(dispersion),
+    birgeRatio: NaN,
+    linesUsed: summary.linesUsed ?? 2,
+    lines: [],
+  } as unknown as DispersionFit;
+  return profileFromFit(fit, capture, { lamp: `self:${summary.lamp ?? 'spectrum'}`, camera });
 }
 
 /**

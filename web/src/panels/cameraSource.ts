@@ -310,9 +310,11 @@ export class CameraSource {
       });
       const outcome = await this.client.identify(cap, this.session.scale?.profile ?? null);
       const present = outcome.identification.species.filter((s) => s.present);
-      const how = outcome.calibration?.from === 'profile' ? 'with the profile' : outcome.calibration?.from === 'self' ? 'self-calibrated' : '';
-      this.ui.guess.textContent = outcome.laser
-        ? `Looks like a laser line at ${outcome.laser.wavelengthNm.toFixed(1)} nm${outcome.laser.candidates[0] ? ` (${outcome.laser.candidates[0].name})` : ''}`
+      const from = outcome.identification.calibration?.from;
+      const how = from === 'profile' ? 'with the profile' : from === 'self' ? 'self-calibrated' : '';
+      const laser = outcome.identification.laser;
+      this.ui.guess.textContent = laser
+        ? `Looks like a laser line at ${laser.wavelengthNm.toFixed(1)} nm${laser.candidates[0] ? ` (${laser.candidates[0].name})` : ''}`
         : present.length
           ? `Looks like: ${present.map((s) => `${s.element} (${s.score.toFixed(2)})`).join(', ')}${how ? ` — ${how}` : ''}`
           : outcome.identification.emissionLinesFound

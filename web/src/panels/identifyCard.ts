@@ -5,7 +5,7 @@
  */
 import type { AnalysisClient } from '../analysis/client.js';
 import type { Session } from '../analysis/session.js';
-import { profileFromFit } from '../analysis/scale.js';
+import { profileFromSelfScale } from '../analysis/scale.js';
 import { exportButtons } from '../plots/exporters.js';
 import { button, card, clear, formatPm, h } from '../ui/dom.js';
 import { say } from '../ui/status.js';
@@ -77,28 +77,29 @@ export class IdentifyCard {
       return;
     }
     const ident = o.identification;
-    const cal = o.calibration;
+    const cal = ident.calibration;
     const calText =
       cal === null
         ? 'No wavelength scale: nothing could be identified.'
         : cal.from === 'profile'
-          ? `Wavelengths from the instrument profile (${cal.lamp}, RMS ${cal.rmsNm.toFixed(3)} nm).`
+          ? `Wavelengths from the instrument profile (${cal.lamp ?? ''}, RMS ${(cal.rmsNm ?? NaN).toFixed(3)} nm).`
           : cal.from === 'file'
             ? 'Wavelengths from the spectrum file.'
-            : `No profile: the spectrum calibrated itself from its own ${cal.lamp} lines (${cal.linesUsed} lines, RMS ${cal.rmsNm.toFixed(2)} nm); confidence is lowered for it.`;
+            : `No profile: the spectrum calibrated itself from its own ${cal.lamp} lines (${cal.linesUsed} lines, RMS ${(cal.rmsNm ?? NaN).toFixed(2)} nm${cal.probability !== undefined ? `, probability ${cal.probability.toFixed(2)} among the candidate scales` : ''}); confidence is lowered for it.`;
     this.body.append(h('p', { class: 'calibration-from', id: 'identify-calibration' }, calText));
-    if (cal && cal.from === 'self' && this.session.capture) {
+    if (cal && cal.from === 'self' && ident.scale && this.session.capture) {
       const capture = this.session.capture;
+      const scale = ident.scale;
       this.body.append(
         button('Use this scale', () => {
-          const profile = profileFromFit(cal.fit, capture, { lamp: `self:${cal.lamp}`, camera: this.session.camera });
+          const profile = profileFromSelfScale(scale, cal, capture, this.session.camera);
           this.session.setScale({ profile, origin: 'self', name: null, result: null });
           say(`Scale taken from the ${cal.lamp} lines of ${capture.sourceName}.`, 'ok');
         }, { class: 'small', id: 'use-self-scale' }),
       );
     }
-    if (o.laser) {
-      const l = o.laser;
+    if (ident.laser) {
+      const l = ident.laser;
       this.body.append(
         h(
           'div',
@@ -146,14 +147,15 @@ export class IdentifyCard {
   private exportJson(): unknown {
     const o = this.session.identification;
     if (!o) return null;
-    const c = o.calibration;
+    const id = o.identification;
     return {
       input: this.session.capture?.sourceName,
       species: o.identification.species,
       peaks: o.identification.peaks,
       unexplained: o.identification.unexplained,
-      calibration: c === null ? null : c.from === 'self' ? { from: 'self', lamp: c.lamp, rmsNm: c.rmsNm, linesUsed: c.linesUsed } : c,
-      laser: o.laser,
+      calibration: id.calibration,
+      laser: id.laser,
+      scaleCandidates: id.scaleCandidates,
       warnings: o.warnings,
     };
   }

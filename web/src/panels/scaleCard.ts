@@ -166,8 +166,8 @@ export class ScaleCard {
   private predictedNm(positionPx: number): number | null {
     const s = this.session.scale;
     if (s) return wavelengthAtNm(s.profile.model, positionPx);
-    const c = this.session.identification?.calibration;
-    if (c && c.from === 'self') return wavelengthAtNm(c.fit.model, positionPx);
+    const scale = this.session.identification?.identification.scale;
+    if (scale) return wavelengthAtNm(scale.model, positionPx);
     return null;
   }
 

@@ -100,11 +100,12 @@ export class SpectrumCard {
     } else if (cap.spectrum.wavelengthNm) {
       wavelengths = cap.spectrum.wavelengthNm;
       axisNote = 'wavelengths from the file';
-    } else if (ident?.calibration && ident.calibration.from === 'self') {
-      const model = ident.calibration.fit.model;
-      wavelengths = Float64Array.from(cap.spectrum.positionPx, (x) => wavelengthAtNm(model, x));
+    } else if (ident?.identification.scale && ident.sampleWavelengthNm) {
+      const model = ident.identification.scale.model;
+      const c = ident.identification.calibration;
+      wavelengths = ident.sampleWavelengthNm;
       peakNm = cap.peaks.map((p) => wavelengthAtNm(model, p.positionPx));
-      axisNote = `wavelengths from the spectrum's own ${ident.calibration.lamp} lines (self-calibrated, RMS ${ident.calibration.rmsNm.toFixed(2)} nm)`;
+      axisNote = `wavelengths from the spectrum's own ${c?.lamp ?? ''} lines (self-calibrated, RMS ${(c?.rmsNm ?? NaN).toFixed(2)} nm)`;
     }
     const speciesColour = speciesColours(ident?.identification);
     const labels = new Map<number, { label: string; element: string }>();
