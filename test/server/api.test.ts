@@ -156,7 +156,7 @@ describe('POST /api/calibrate and the instrument profile', () => {
     const damaged = { ...profile, model: { ...profile.model, covariance: 'oops' } };
     const bad = await fetch(`${server.url}/api/profiles/bench-bad`, { method: 'PUT', headers: { 'content-type': 'application/json' }, body: JSON.stringify(damaged) });
     expect(bad.status).toBe(400);
-    expect(((await bad.json()) as { error: string }).error).toMatch(/profile bench-bad: model.covariance/);
+    expect(((await bad.json()) as { error: string }).error).toMatch(/^profile bench-bad: not a usable instrument profile: model/);
   });
 
   it('refuses a wrong lamp with the matcher\'s reason, a lamp spec naming a file, and a traversing save name', async () => {

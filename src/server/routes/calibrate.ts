@@ -7,7 +7,8 @@
  * PUT /api/profiles/:name.
  */
 import type { Router } from 'express';
-import { PROFILE_FORMAT, profileFromJson, profileToJson } from '../../core/calibration/profile.js';
+import { PROFILE_FORMAT, profileToJson } from '../../core/calibration/profile.js';
+import { parseProfileText } from '../../io/profileFile.js';
 import { InputError } from '../../core/errors.js';
 import { checkProfileName, saveProfile } from '../../io/workspace.js';
 import { runCalibrate } from '../../cli/calibrate.js';
@@ -36,8 +37,9 @@ function lampSpec(text: string): string {
 }
 
 export function registerCalibrateRoutes(router: Router, { config, upload }: RouteContext): void {
+  // The same checks as a profile file read from disk: the JSON Schema (data/schema), then the core's semantic ones.
   profileValidators.set(PROFILE_FORMAT, (json, source) => {
-    profileFromJson(json, source);
+    parseProfileText(JSON.stringify(json), source);
   });
   router.post(
     '/calibrate',
