@@ -1,3 +1,4 @@
+import { readFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { browserSuite } from '../helpers/browser.js';
@@ -35,6 +36,11 @@ describe.runIf(browserSuite === 'run')('the grating and laser-mode benches in th
     expect(await page.textContent('#gr-verdict')).toMatch(/^outside/);
     // The plot: one measured dot and one fitted ring per order, each with a hover read-out.
     expect(await page.$$eval('#gr-figure svg title', (t) => t.map((x) => x.textContent))).toHaveLength(4);
+    // PNG export of the plot shown (rendered through an image of the SVG under the page's CSP).
+    const [png] = await Promise.all([page.waitForEvent('download'), page.click('#gr-result-card .exports button:text("PNG")')]);
+    const bytes = readFileSync((await png.path())!);
+    expect(Array.from(bytes.subarray(0, 8))).toEqual([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]); // PNG signature (ISO/IEC 15948)
+    expect(bytes.readUInt32BE(16)).toBe(2 * 620); // IHDR width: the 620-px plot at 2×
     await harness.shot(page, 'grating');
     expect(errors).toEqual([]);
   });
