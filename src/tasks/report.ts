@@ -1,12 +1,12 @@
 /**
  * The `report` task: result files written by any command's --json (one object, a batch's {"results": [...]}, or a
- * watch log with one JSON object per line) → one self-contained HTML report, written atomically as index.html in a
- * folder. The CLI only parses arguments and prints what this returns.
+ * watch log with one JSON object per line) → one self-contained HTML report and the summary table as CSV, written
+ * atomically as index.html and summary.csv in a folder. The CLI only parses arguments and prints what this returns.
  */
 import { readFile } from 'node:fs/promises';
 import path from 'node:path';
 import { InputError } from '../core/errors.js';
-import { reportFromResults, unpackResults, type ResultSection } from '../core/report/sections/index.js';
+import { reportFromResults, summaryCsv, unpackResults, type ResultSection } from '../core/report/sections/index.js';
 import { packageVersion } from '../io/projectRoot.js';
 import { createSvgDocument } from '../io/svgDocument.js';
 import { writeFileAtomic } from '../io/writeAtomic.js';
@@ -25,6 +25,8 @@ export const REPORT_DEFAULTS = { outDir: 'report', title: 'glowprint report' } a
 export interface ReportRun {
   /** The HTML file written. */
   file: string;
+  /** The summary table as CSV, written beside it. */
+  csvFile: string;
   sections: ResultSection[];
   warnings: string[];
 }
@@ -99,9 +101,17 @@ export async function runReport(files: readonly string[], options: ReportTaskOpt
       version: packageVersion(),
     },
   );
+  const csvFile = path.join(outDir, 'summary.csv');
+  // Both outputs are checked before either is written, so a refused run leaves nothing half-done.
+  for (const out of [target, csvFile]) {
+    if (files.some((f) => path.resolve(f) === path.resolve(out))) {
+      throw new InputError(`${out}: refusing to write over an input file; choose another --out folder`, out);
+    }
+  }
   await writeFileAtomic(target, report.html, { inputs: files });
+  await writeFileAtomic(csvFile, summaryCsv(report.sections.map((s) => s.summary)), { inputs: files });
   const warnings = report.sections.flatMap((s) => (s.section.warnings ?? []).map((w) => `${s.summary.item}: ${w}`));
-  return { file: target, sections: report.sections, warnings };
+  return { file: target, csvFile, sections: report.sections, warnings };
 }
 
 function introFor(files: readonly string[], n: number): string {

@@ -1,6 +1,7 @@
 import { existsSync, mkdirSync, mkdtempSync, readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
+import { parse } from 'csv-parse/sync';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { ROOT, runCli } from '../helpers/runCli.js';
 
@@ -39,15 +40,19 @@ describe('glowprint report', () => {
     const out = path.join(tmp, 'audit');
     const r = runCli(['report', polarization, grating, modes, '--out', out, '--title', 'Drawer audit']);
     expect(r.status, r.stderr).toBe(0);
-    expect(r.stdout).toMatch(/^Report written: .*index\.html \(3 results\)/);
+    expect(r.stdout).toMatch(/^Report written: .*index\.html \(3 results; summary table in .*summary\.csv\)/);
     expect(r.stdout).toMatch(/laser-a-power-meter\.csv: linearly polarized/);
     const html = readFileSync(path.join(out, 'index.html'), 'utf8');
     expect(html).toMatch(/<title>Drawer audit<\/title>/);
     expect((html.match(/<section id=/g) ?? []).length).toBe(3);
     expect(html).toMatch(/Summary \(3 results/);
     expect(html).not.toMatch(/<script/i);
-    // Written atomically: no temporary file left beside it.
-    expect(readdirSync(out)).toEqual(['index.html']);
+    // Written atomically: no temporary file left beside them.
+    expect(readdirSync(out).sort()).toEqual(['index.html', 'summary.csv']);
+    // The summary table as CSV, read back with csv-parse (a general-purpose RFC 4180 reader).
+    const rows = parse(readFileSync(path.join(out, 'summary.csv'), 'utf8'), { columns: true }) as Array<Record<string, string>>;
+    expect(rows.map((r) => r.measurement)).toEqual(['Polarization', 'Grating line density', 'Laser modes']);
+    expect(rows[0].key_figure).toMatch(/^DoLP \d\.\d+ ± \d\.\d+, /);
   });
 
   it('reads a batch file {"results": [...]} and a watch log (JSON Lines, a torn last line skipped)', () => {

@@ -101,6 +101,20 @@ export function summaryTable(rows: readonly SummaryRow[]): ReportTable {
   };
 }
 
+/**
+ * The summary table as CSV (RFC 4180: comma-separated, fields with commas, quotes or line breaks quoted, quotes
+ * doubled), one row per result, for a spreadsheet or the stock list.
+ */
+export function summaryCsv(rows: readonly SummaryRow[]): string {
+  const field = (v: string | number): string => {
+    const s = String(v).replace(/\u00a0/g, ' ');
+    return /[",\r\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+  };
+  const lines = [['item', 'measurement', 'result', 'key_figure', 'warnings'].join(',')];
+  for (const r of rows) lines.push([r.item, r.measurement, r.result, r.keyFigure, r.warnings].map(field).join(','));
+  return lines.join('\r\n') + '\r\n';
+}
+
 /** The cautions that apply to the measurements in a report: lasers for laser work, high voltage and UV for lamps. */
 export function cautionsFor(kinds: Iterable<ResultSection['kind']>): string[] {
   const set = new Set(kinds);

@@ -5,7 +5,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { InputError } from '../../../../src/core/errors.js';
 import { HIGH_VOLTAGE_CAUTION, LASER_CAUTION, UV_CAUTION } from '../../../../src/core/safety.js';
 import { escapeHtml } from '../../../../src/core/report/html.js';
-import { cautionsFor, reportFromResults, resultKind, sectionFromResult, summaryTable, unpackResults } from '../../../../src/core/report/sections/index.js';
+import { parse } from 'csv-parse/sync';
+import { cautionsFor, reportFromResults, resultKind, sectionFromResult, summaryCsv, summaryTable, unpackResults } from '../../../../src/core/report/sections/index.js';
 import { createSvgDocument } from '../../../../src/io/svgDocument.js';
 import { cliJson, DEMO } from './results.js';
 
@@ -76,6 +77,18 @@ describe('reportFromResults(results, options)', () => {
     expect(html).not.toMatch(/<script/i);
     expect(html).not.toMatch(/(src|href)="https?:/);
     expect(html).toContain(escapeHtml(summaryTable(sections.map((s) => s.summary)).caption!));
+  });
+
+  it('writes the summary as CSV that a general-purpose reader (csv-parse) reads back exactly', () => {
+    const rows = [
+      { id: 'a', item: 'tube "B", worn label', measurement: 'Gas identification', result: 'Hg + Ar', keyFigure: 'score 1.00,\u00a02 unexplained lines', warnings: 3 },
+      { id: 'b', item: 'slide C', measurement: 'Grating line density', result: 'not 600 l/mm', keyFigure: '578.92\u00a0±\u00a00.70 lines/mm', warnings: 0 },
+    ];
+    const back = parse(summaryCsv(rows), { columns: true }) as Array<Record<string, string>>;
+    expect(back).toEqual([
+      { item: 'tube "B", worn label', measurement: 'Gas identification', result: 'Hg + Ar', key_figure: 'score 1.00, 2 unexplained lines', warnings: '3' },
+      { item: 'slide C', measurement: 'Grating line density', result: 'not 600 l/mm', key_figure: '578.92 ± 0.70 lines/mm', warnings: '0' },
+    ]);
   });
 
   it('shows the cautions that apply: lasers for laser work, high voltage and UV for lamps', () => {
