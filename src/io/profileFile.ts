@@ -42,23 +42,27 @@ function describeErrors(errors: ErrorObject[]): string {
   return shown.join('; ') + (useful.length > 3 ? ` (and ${useful.length - 3} more)` : '');
 }
 
+/** Where a JSON syntax error is, as " at line L, column C" (plus a hint for NaN and Infinity), or "". */
+function locateSyntaxError(text: string, message: string): string {
+  const at = (pos: number): string => {
+    const before = text.slice(0, pos);
+    return ` at line ${before.split('\n').length}, column ${pos - before.lastIndexOf('\n')}`;
+  };
+  // Hand edits most often leave NaN or Infinity, which JSON does not have (outside strings: after : [ or ,).
+  const bad = /([:[,]\s*)(-?(?:NaN|Infinity))\b/.exec(text);
+  if (bad) return `${at(bad.index + bad[1].length)} (NaN and Infinity are not JSON numbers: write a number, or calibrate again)`;
+  const m = /position (\d+)/.exec(message);
+  if (m) return at(Number(m[1]));
+  return message.startsWith('Unexpected end') ? ' (the file ends too early)' : '';
+}
+
 /** Parses profile text: JSON syntax (NaN and Infinity are not JSON), schema, then the core checks. */
 export function parseProfileText(text: string, source: string): InstrumentProfile {
   let json: unknown;
   try {
     json = JSON.parse(text);
   } catch (err) {
-    const m = /position (\d+)/.exec((err as Error).message);
-    let where = '';
-    if (m) {
-      const pos = Number(m[1]);
-      const before = text.slice(0, pos);
-      const line = before.split('\n').length;
-      const column = pos - before.lastIndexOf('\n');
-      where = ` at line ${line}, column ${column}`;
-      if (/^(NaN|-?Infinity)/.test(text.slice(pos))) where += ' (NaN and Infinity are not JSON numbers: write a number, or calibrate again)';
-    }
-    throw new InputError(`${source}: not a valid JSON file${where}`, source);
+    throw new InputError(`${source}: not a valid JSON file${locateSyntaxError(text, (err as Error).message)}`, source);
   }
   const validate = schemaValidator();
   const raw = json as Record<string, unknown> | null;

@@ -4,8 +4,9 @@ import { imageToBandPx } from '../spectrum/band/frame.js';
 import type { BandGeometry, Peak, SpectralLine } from '../types.js';
 import { fitDispersion, type CalibrationPoint, type DispersionFit, type FitDispersionOptions } from './fitDispersion.js';
 import type { GratingFitOptions, ParameterPrior } from './gratingModel.js';
-import { isBroadFeature, referenceUncertaintyNm } from './lineReference.js';
+import { isBroadFeature, type LampLineInfo, referenceUncertaintyNm } from './lineReference.js';
 import { matchLines, type ManualPair, type MatchLinesOptions, type MatchResult } from './matchLines.js';
+import { dispersionAtNmPerPx } from './model.js';
 
 /** Where the physical model's focal length and axis come from, for a photo. */
 export interface GratingPriorsInput {
@@ -78,9 +79,15 @@ export interface CalibrateOptions {
   fit: Partial<FitDispersionOptions>;
   /** A manual pair snaps to a peak within this distance (px). @default 3 */
   snapPx: number;
+  /**
+   * The lamp's lines with blends judged at a given resolution (nm), when the caller can give them (the line list
+   * marks blends for a nominal resolution; the photo's own is FWHM × dispersion, known only after matching). Null:
+   * the lines as given are kept. @default null
+   */
+  linesAtResolution: ((resolutionNm: number) => readonly SpectralLine[]) | null;
 }
 
-export const CALIBRATE_DEFAULTS: CalibrateOptions = { pairs: [], match: {}, fit: {}, snapPx: 3 };
+export const CALIBRATE_DEFAULTS: CalibrateOptions = { pairs: [], match: {}, fit: {}, snapPx: 3, linesAtResolution: null };
 
 export interface CalibrationResult {
   fit: DispersionFit;
@@ -155,6 +162,26 @@ export function calibrateFromPeaks(
         peakIndex: best >= 0 ? best : undefined,
       };
     });
+  }
+  // Blends at the photo's own resolution: FWHM of the matched peaks × the local dispersion (median).
+  if (match && o.linesAtResolution && match.model) {
+    const widths = match.matches
+      .filter((m) => m.peakIndex >= 0)
+      .map((m) => peaks[m.peakIndex].fwhmPx * Math.abs(dispersionAtNmPerPx(match!.model!, m.positionPx)))
+      .filter((v) => Number.isFinite(v) && v > 0)
+      .sort((a, b) => a - b);
+    const resolutionNm = widths.length ? widths[widths.length >> 1] : NaN;
+    if (resolutionNm > 1) {
+      const relisted = o.linesAtResolution(resolutionNm);
+      // A neighbour that has a peak of its own was resolved by the peak finder's joint fit: it shifts nothing.
+      const seen = new Set(points.map((p) => p.wavelengthNm.toFixed(4)));
+      points = points.map((p) => {
+        const line = relisted.find((l) => Math.abs(l.wavelengthNm - p.wavelengthNm) < 1e-6) as LampLineInfo | undefined;
+        if (!line || p.source === 'manual') return p;
+        const unresolved = { ...line, blendedWith: (line.blendedWith ?? []).filter((w) => !seen.has(w.toFixed(4))) };
+        return { ...p, referenceUncertaintyNm: Math.max(p.referenceUncertaintyNm ?? 0, referenceUncertaintyNm(unresolved, relisted)) };
+      });
+    }
   }
   const fit = fitDispersion(points, o.fit);
   warnings.push(...fit.warnings);

@@ -58,6 +58,9 @@ export interface FitDispersionOptions {
   grating: Partial<GratingFitOptions>;
 }
 
+/** The grating model may clip at most this share of the lines (beyond it, lens distortion or the like is at work). */
+const MAX_MODEL_CLIPPED = 0.15;
+
 export const FIT_DISPERSION_DEFAULTS: FitDispersionOptions = {
   model: 'auto',
   degree: null,
@@ -101,6 +104,10 @@ export interface ModelCandidate {
   parameterCount: number;
   criterion: number;
   rmsNm: number;
+  /** Lines the criterion was computed on. */
+  lines: number;
+  /** RMS of the leave-one-out prediction errors (nm), where computed (the polynomial against the grating model). */
+  predictionRmsNm?: number;
   chosen: boolean;
 }
 
@@ -258,61 +265,121 @@ export function fitDispersion(points: readonly CalibrationPoint[], options: Part
     w.excluded = 'clipped';
   }
 
-  const used = work.filter((w) => w.used);
-  const degree = chooseDegree(used);
+  let used = work.filter((w) => w.used);
+  let degree = chooseDegree(used);
   if (used.length < degree + 1 || new Set(used.map((w) => w.point.positionPx)).size < degree + 1) {
     throw new InputError(`degree ${degree} needs at least ${degree + 1} lines at different positions; ${used.length} are usable`, 'degree');
   }
-  const poly = fitPoly(used, degree);
-  if (!poly) throw new InputError('the calibration lines do not determine the polynomial (coincident positions)', 'lines');
-  const candidates: ModelCandidate[] = [];
-  for (let d = 1; d <= o.maxDegree; d++) {
-    const f = d === degree ? poly : fitPoly(used, d);
-    if (!f) continue;
-    candidates.push({
-      kind: 'polynomial',
-      degree: d,
-      parameterCount: d + 1,
-      criterion: informationCriterion(o.criterion, f.chi2, used.length, d + 1),
-      rmsNm: rmsOf(f.model, used),
-      chosen: false,
-    });
-  }
-  const checkFit = new Set(used.map((w) => w.point.positionPx)).size >= degree + 2 ? fitPoly(used, degree + 1) : null;
-  const checkModel = checkFit ? checkFit.model : null;
+  const polynomialOn = (set: Working[], d: number) => {
+    const fit = fitPoly(set, d);
+    if (!fit) throw new InputError('the calibration lines do not determine the polynomial (coincident positions)', 'lines');
+    return fit;
+  };
+  const polyCandidates = (set: Working[]): ModelCandidate[] => {
+    const out: ModelCandidate[] = [];
+    for (let d = 1; d <= o.maxDegree; d++) {
+      const f = fitPoly(set, d);
+      if (!f) continue;
+      out.push({
+        kind: 'polynomial',
+        degree: d,
+        parameterCount: d + 1,
+        criterion: informationCriterion(o.criterion, f.chi2, set.length, d + 1),
+        rmsNm: rmsOf(f.model, set),
+        lines: set.length,
+        chosen: false,
+      });
+    }
+    return out;
+  };
+  let poly = polynomialOn(used, degree);
+  let candidates = polyCandidates(used);
 
-  // The physical model on the same lines.
+  // The physical model on the same lines. It is clipped in its own right (a polynomial of higher degree can absorb a
+  // slightly shifted line that the physics cannot), at most MAX_MODEL_CLIPPED of the lines, and then compared with
+  // the polynomials refitted on the lines it kept.
   let chosen: DispersionModel = poly.model;
   let chosenDof = poly.dof;
   let chosenChi2 = poly.chi2;
   if (o.model !== 'polynomial') {
-    const g = fitGrating(toPoints(used, weightOf), o.grating);
+    const gratingOn = (set: Working[]) => fitGrating(toPoints(set, weightOf), o.grating);
+    let gSet = used.slice();
+    let g = gratingOn(gSet);
     if (!g) {
       const why = `the grating model cannot be fitted to ${used.length} lines` +
         (o.grating.focalLengthPx ? '' : ' with the focal length unknown (no EXIF focal length; give --focal-px)');
       if (o.model === 'grating') throw new InputError(why, 'model');
       warnings.push(`${why}; the polynomial is used`);
     } else {
-      const gCriterion = informationCriterion(o.criterion, g.chi2, used.length, g.effectiveParameters);
-      candidates.push({
+      const gClipped: Working[] = [];
+      const maxClipped = Math.max(1, Math.floor(MAX_MODEL_CLIPPED * used.length));
+      while (gClipped.length < maxClipped && gSet.length > 4) {
+        const model = g.model;
+        let worst = -1;
+        let worstZ = 0;
+        gSet.forEach((w, i) => {
+          const z = Math.abs(w.point.wavelengthNm - wavelengthAtNm(model, w.point.positionPx)) * Math.sqrt(weightOf(w));
+          if (z > worstZ) {
+            worstZ = z;
+            worst = i;
+          }
+        });
+        if (worst < 0) break;
+        const w = gSet[worst];
+        const rest = gSet.filter((_, i) => i !== worst);
+        const loo = gratingOn(rest);
+        if (!loo) break;
+        const birge = loo.dof > 0 ? Math.max(1, loo.chi2 / loo.dof) : 1;
+        const sigma2 = birge / weightOf(w) + modelSigmaNm(loo.model, w.point.positionPx) ** 2;
+        const z = Math.abs(w.point.wavelengthNm - wavelengthAtNm(loo.model, w.point.positionPx)) / Math.sqrt(sigma2);
+        if (z <= o.clipSigma) break;
+        gClipped.push(w);
+        gSet = rest;
+        g = loo;
+      }
+      const gCriterion = informationCriterion(o.criterion, g.chi2, gSet.length, g.effectiveParameters);
+      const onSet = gClipped.length ? polyCandidates(gSet) : candidates;
+      const degreeOnSet = gClipped.length ? chooseDegree(gSet) : degree;
+      // Polynomial against physics by leave-one-out prediction (PRESS: Allen 1974; cross-validation: Stone 1974) on
+      // the same lines: unlike an information criterion it sees how badly a flexible polynomial predicts the end
+      // lines from the others — extrapolation, what the physical model does well. In 'auto' the grating model wins
+      // unless the polynomial predicts clearly better (less than half its mean squared prediction error); it also
+      // reports the line density.
+      const pressPoly = press(gSet, (set) => fitPoly(set, degreeOnSet)?.model ?? null, weightOf);
+      const pressGrating = press(gSet, (set) => gratingOn(set)?.model ?? null, weightOf);
+      const polyRow = onSet.find((c) => c.degree === degreeOnSet);
+      if (polyRow) polyRow.predictionRmsNm = pressPoly.rmsNm;
+      const takeGrating = o.model === 'grating' || !(pressPoly.weighted < 0.5 * pressGrating.weighted);
+      const gCandidate: ModelCandidate = {
         kind: 'grating',
         parameterCount: g.effectiveParameters,
         criterion: gCriterion,
-        rmsNm: rmsOf(g.model, used),
+        rmsNm: rmsOf(g.model, gSet),
+        predictionRmsNm: pressGrating.rmsNm,
+        lines: gSet.length,
         chosen: false,
-      });
-      const bestPoly = Math.min(...candidates.filter((c) => c.kind === 'polynomial' && c.degree === degree).map((c) => c.criterion));
-      // In 'auto' the physical model wins unless the polynomial is clearly better (ΔIC > 2, Burnham & Anderson's
-      // "substantial support" threshold): it extrapolates far better and reports the line density.
-      const takeGrating = o.model === 'grating' || !(bestPoly < gCriterion - 2) || (!Number.isFinite(bestPoly) && !Number.isFinite(gCriterion));
+      };
       if (takeGrating) {
         chosen = g.model;
         chosenDof = g.dof;
         chosenChi2 = g.chi2;
+        for (const w of gClipped) {
+          w.used = false;
+          w.excluded = 'clipped';
+        }
+        if (gClipped.length) {
+          used = gSet;
+          degree = degreeOnSet;
+          poly = polynomialOn(used, degree);
+          candidates = onSet;
+        }
         if (!g.converged) warnings.push('the grating model fit did not converge fully; its parameters may be off');
       }
+      candidates = [...candidates, gCandidate];
     }
   }
+  const checkFit = new Set(used.map((w) => w.point.positionPx)).size >= degree + 2 ? fitPoly(used, degree + 1) : null;
+  const checkModel = checkFit ? checkFit.model : null;
   for (const c of candidates) {
     c.chosen = chosen.kind === 'grating' ? c.kind === 'grating' : c.kind === 'polynomial' && c.degree === degree;
   }
@@ -398,6 +465,27 @@ export function fitDispersion(points: readonly CalibrationPoint[], options: Part
 
 function toPoints(set: Working[], weightOf?: (w: Working) => number): WeightedPoint[] {
   return set.map((w) => ({ xPx: w.point.positionPx, wavelengthNm: w.point.wavelengthNm, weight: weightOf ? weightOf(w) : 1 / w.sigmaPx ** 2 }));
+}
+
+/**
+ * Leave-one-out prediction errors of a model family on a set: each line predicted by the model fitted to the others.
+ * `weighted` is the mean of w·r², `rmsNm` the plain RMS; Infinity when some refit fails.
+ */
+function press(
+  set: Working[],
+  fit: (set: Working[]) => DispersionModel | null,
+  weightOf: (w: Working) => number,
+): { weighted: number; rmsNm: number } {
+  let weighted = 0;
+  let plain = 0;
+  for (let i = 0; i < set.length; i++) {
+    const model = fit(set.filter((_, j) => j !== i));
+    if (!model) return { weighted: Infinity, rmsNm: Infinity };
+    const r = set[i].point.wavelengthNm - wavelengthAtNm(model, set[i].point.positionPx);
+    weighted += weightOf(set[i]) * r * r;
+    plain += r * r;
+  }
+  return { weighted: weighted / set.length, rmsNm: Math.sqrt(plain / set.length) };
 }
 
 function rmsOf(model: DispersionModel, set: Working[]): number {

@@ -10,9 +10,10 @@ export interface LampLineInfo extends SpectralLine {
 
 /**
  * Relative standard uncertainty of a broad feature's centre as a fraction of its width (phosphor peaks shift with
- * the host lattice and between makers; common practice, no source).
+ * the host lattice and between makers, by a few tenths of a nm for a 2 nm wide Eu³⁺ peak; common practice, no
+ * source).
  */
-export const BROAD_FEATURE_RELATIVE_SIGMA = 0.15;
+export const BROAD_FEATURE_RELATIVE_SIGMA = 0.1;
 
 /** Lamp features wider than this (FWHM, nm) are not used to calibrate. */
 export const MAX_FEATURE_WIDTH_NM = 5;

@@ -1,0 +1,191 @@
+import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { applyProfileToPeaks } from '../../src/core/calibration/profile.js';
+import { readProfile } from '../../src/io/profileFile.js';
+import { analyseSpectrumInput } from '../../src/tasks/spectrum.js';
+import { ROOT, runCli } from '../helpers/runCli.js';
+
+const DEMO = path.join(ROOT, 'data/demo');
+const CFL = path.join(DEMO, 'cfl-calibration.jpg');
+const dir = mkdtempSync(path.join(os.tmpdir(), 'glowprint-calibrate-'));
+const at = (name: string) => path.join(dir, name);
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+interface TruthLine {
+  wavelength_nm: number;
+  order: number;
+  saturated: boolean;
+  peak_electrons: number;
+}
+const truth = JSON.parse(readFileSync(path.join(DEMO, 'truth.json'), 'utf8')) as {
+  rig: { lines_per_mm: number };
+  photos: Array<{ file: string; lines: TruthLine[] }>;
+};
+
+/** A spectrum CSV in pixels with Gaussian lines (σ = 1.3 px) at the given positions and heights. */
+function csvSpectrum(lines: Array<[number, number]>): string {
+  const rows = ['pixel,intensity'];
+  for (let px = 0; px < 1200; px++) {
+    let v = 2;
+    for (const [x, h] of lines) v += h * Math.exp(-0.5 * ((px - x) / 1.3) ** 2);
+    // deterministic ripple as noise
+    v += 0.2 * Math.sin(px * 1.7) * Math.sin(px * 0.31);
+    rows.push(`${px},${v.toFixed(4)}`);
+  }
+  return rows.join('\n') + '\n';
+}
+
+describe('glowprint calibrate <photo> --lamp fluorescent (the demo rig: 1000 lines/mm, 1920×1080 JPEG)', () => {
+  const profileFile = at('rig.json');
+  let out: Record<string, unknown>;
+  beforeAll(() => {
+    const r = runCli(['calibrate', CFL, '--lamp', 'fluorescent', '--json', '--out', profileFile]);
+    expect(r.status).toBe(0);
+    for (const line of r.stderr.trim().split('\n').filter(Boolean)) expect(line).toMatch(/^glowprint: warning: /);
+    out = JSON.parse(r.stdout) as Record<string, unknown>;
+  });
+
+  it('prints one JSON object with the contract keys', () => {
+    for (const key of ['rms_nm', 'rms_px', 'dispersion_nm_per_px', 'range_nm', 'model', 'lines', 'warnings', 'lines_per_mm']) {
+      expect(out, key).toHaveProperty(key);
+    }
+    const lines = out.lines as Array<Record<string, unknown>>;
+    expect(lines.length).toBeGreaterThanOrEqual(6);
+    for (const l of lines) for (const key of ['position_px', 'wavelength_nm', 'residual_nm', 'used']) expect(l).toHaveProperty(key);
+    expect((out.model as Record<string, unknown>).kind).toBe('grating');
+    const [lo, hi] = out.range_nm as number[];
+    expect(lo).toBeLessThan(hi);
+    expect(out.rms_nm as number).toBeLessThanOrEqual(0.1);
+  });
+
+  it('recovers the grating line density of the rendered photo within 0.3 %, with its uncertainty', () => {
+    // Truth: the renderer's rig (data/demo/truth.json: 1000 lines/mm).
+    const lpm = out.lines_per_mm as number;
+    expect(Math.abs(lpm - truth.rig.lines_per_mm) / truth.rig.lines_per_mm).toBeLessThanOrEqual(0.003);
+    expect(out.lines_per_mm_uncertainty as number).toBeGreaterThan(0);
+    expect((out.model as Record<string, unknown>).focal_length_source).toBe('exif');
+  });
+
+  it('saves a profile that measures other lamps\' lines to ≤ 0.15 nm RMS (tubes A, C, E of the demo)', async () => {
+    const profile = await readProfile(profileFile);
+    for (const file of ['tube-a.jpg', 'tube-c.jpg', 'tube-e.jpg']) {
+      const { analysis } = await analyseSpectrumInput(path.join(DEMO, file));
+      const applied = applyProfileToPeaks(analysis.peaks, profile, {
+        image: { widthPx: analysis.input.widthPx!, heightPx: analysis.input.heightPx! },
+        band: analysis.band,
+        source: file,
+      });
+      const lines = truth.photos.find((p) => p.file === file)!.lines.filter((l) => l.order === 1);
+      const residuals: number[] = [];
+      for (const p of applied.peaks) {
+        if (p.blended || p.saturated) continue;
+        const best = lines.reduce((a, l) => (Math.abs(l.wavelength_nm - p.wavelengthNm) < Math.abs(a.wavelength_nm - p.wavelengthNm) ? l : a));
+        // isolated, well-exposed truth lines only (no other line within 3 nm carrying > 5 % of its light)
+        if (Math.abs(best.wavelength_nm - p.wavelengthNm) > 1.5 || best.saturated || best.peak_electrons < 200) continue;
+        if (lines.some((l) => l !== best && Math.abs(l.wavelength_nm - best.wavelength_nm) < 3 && l.peak_electrons > 0.05 * best.peak_electrons)) continue;
+        residuals.push(p.wavelengthNm - best.wavelength_nm);
+        expect(Math.abs(p.wavelengthNm - best.wavelength_nm)).toBeLessThanOrEqual(4 * p.wavelengthUncertaintyNm);
+      }
+      expect(residuals.length, file).toBeGreaterThanOrEqual(4);
+      const rms = Math.sqrt(residuals.reduce((a, r) => a + r * r, 0) / residuals.length);
+      expect(rms, file).toBeLessThanOrEqual(0.15);
+    }
+  });
+
+  it('reports vacuum wavelengths with --vacuum (standard-air conversion, Ciddor 1996)', () => {
+    const r = runCli(['calibrate', CFL, '--lamp', 'fluorescent', '--json', '--vacuum']);
+    expect(r.status).toBe(0);
+    const vac = JSON.parse(r.stdout) as { medium: string; range_nm: number[]; lines: Array<{ wavelength_nm: number; label: string }> };
+    expect(vac.medium).toBe('vacuum');
+    // Hg I 435.833 nm in air is 435.956 nm in vacuum (n − 1 ≈ 2.83e-4 there; computed by the Ciddor formula, C).
+    const hg = vac.lines.find((l) => l.label === 'Hg I 435.833')!;
+    expect(Math.abs(hg.wavelength_nm - 435.956)).toBeLessThanOrEqual(0.002);
+  });
+});
+
+describe('glowprint calibrate: bad input gets one clear message, exit 1, nothing overwritten', () => {
+  it('a wrong lamp is rejected with the reason, and an existing --out file stays as it was', () => {
+    const keep = at('keep.json');
+    writeFileSync(keep, '{"mine": true}\n');
+    const r = runCli(['calibrate', CFL, '--lamp', 'Ne', '--out', keep]);
+    expect(r.status).toBe(1);
+    expect(r.stderr.trim().split('\n')).toHaveLength(1);
+    expect(r.stderr).toMatch(/glowprint: the lamp's lines do not match the peaks.*chance.*check --lamp or give --pairs/);
+    expect(readFileSync(keep, 'utf8')).toBe('{"mine": true}\n');
+  });
+
+  it('a single laser line cannot calibrate alone', () => {
+    const r = runCli(['calibrate', CFL, '--lamp', 'laser:632.816']);
+    expect(r.status).toBe(1);
+    expect(r.stderr).toMatch(/1 line\(s\).*give --pairs/);
+  });
+
+  it('refuses to write the profile over the input', () => {
+    const csv = at('in.csv');
+    writeFileSync(csv, csvSpectrum([[200, 50], [700, 40]]));
+    const r = runCli(['calibrate', csv, '--pairs', '200=435.833,700=546.074', '--out', csv]);
+    expect(r.status).toBe(1);
+    expect(r.stderr).toMatch(/refusing to write over an input file/);
+    expect(readFileSync(csv, 'utf8')).toBe(csvSpectrum([[200, 50], [700, 40]]));
+  });
+
+  it('names a malformed pair, an unknown lamp, a missing lamp and a bad degree', () => {
+    const csv = at('p.csv');
+    writeFileSync(csv, csvSpectrum([[200, 50], [700, 40]]));
+    expect(runCli(['calibrate', csv, '--pairs', '200=435.833,700:546']).stderr).toMatch(/--pairs: "700:546" is not position_px=wavelength_nm/);
+    expect(runCli(['calibrate', csv, '--lamp', 'Unobtainium']).stderr).toMatch(/unknown lamp "Unobtainium"/);
+    const none = runCli(['calibrate', csv]);
+    expect(none.status).toBe(1);
+    expect(none.stderr).toMatch(/give --lamp.*--pairs/);
+    expect(runCli(['calibrate', csv, '--pairs', '200=435.833,700=546.074', '--degree', '7']).stderr).toMatch(/--degree: expected an integer from 1 to 4/);
+  });
+
+  it('one line only is an error that says a scale needs two', () => {
+    const csv = at('one.csv');
+    writeFileSync(csv, csvSpectrum([[300, 50]]));
+    const r = runCli(['calibrate', csv, '--pairs', '300=546.074']);
+    expect(r.status).toBe(1);
+    expect(r.stderr).toMatch(/only one line.*at least two lines/);
+  });
+
+  it('a spectrum that already has a wavelength axis is not calibrated again', () => {
+    const csv = at('wl.csv');
+    writeFileSync(csv, 'wavelength_nm,intensity\n' + Array.from({ length: 200 }, (_, i) => `${400 + i},${i === 100 ? 50 : 1}`).join('\n') + '\n');
+    const r = runCli(['calibrate', csv, '--lamp', 'Hg']);
+    expect(r.status).toBe(1);
+    expect(r.stderr).toMatch(/already has a wavelength axis/);
+  });
+
+  it('usage mistakes exit 2', () => {
+    expect(runCli(['calibrate', CFL, '--model', 'spline']).status).toBe(2);
+  });
+});
+
+describe('glowprint calibrate <csv> --pairs (manual calibration of a spectrum file)', () => {
+  it('fits the pairs, snapping them to the peaks, and writes a profile without image or band', () => {
+    const csv = at('pairs.csv');
+    // Hg lines placed at 0.25 nm/px from 400 nm: 404.656 → 18.6 px, 435.833 → 143.3, 546.074 → 584.3, 576.96 → 707.8
+    writeFileSync(csv, csvSpectrum([[18.62, 30], [143.33, 60], [584.3, 50], [707.84, 20]]));
+    const out = at('pairs.json');
+    const r = runCli(['calibrate', csv, '--pairs', '19=404.656,143=435.833,584=546.074,708=576.96', '--model', 'poly', '--json', '--out', out]);
+    expect(r.status).toBe(0);
+    const j = JSON.parse(r.stdout) as { lines: Array<{ position_px: number; source: string }>; dispersion_nm_per_px: number; model: { kind: string; degree: number } };
+    expect(j.model).toMatchObject({ kind: 'polynomial', degree: 1 });
+    expect(Math.abs(j.dispersion_nm_per_px - 0.25)).toBeLessThanOrEqual(0.001);
+    expect(Math.abs(j.lines[0].position_px - 18.62)).toBeLessThanOrEqual(0.1);
+    expect(j.lines.every((l) => l.source === 'manual')).toBe(true);
+    expect(existsSync(out)).toBe(true);
+    const saved = JSON.parse(readFileSync(out, 'utf8')) as { image: unknown; band: unknown; lamp: string };
+    expect(saved).toMatchObject({ image: null, band: null, lamp: 'pairs' });
+  });
+
+  it('prints the residual table and the safety cautions in --help', () => {
+    const help = runCli(['calibrate', '--help']);
+    expect(help.status).toBe(0);
+    expect(help.stdout).toMatch(/kilovolts/);
+    expect(help.stdout).toMatch(/UV/);
+    expect(help.stdout).toMatch(/--pairs/);
+  });
+});
