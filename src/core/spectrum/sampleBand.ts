@@ -235,68 +235,210 @@ function sampleCodes(px: PixelAccess, g: Grid, out: SampledBand, combine: boolea
   const rowStep = rows > 1 ? offsetPx[1] - offsetPx[0] : 0;
   const sdx = g.rowDx * rowStep;
   const sdy = g.rowDy * rowStep;
-  const rowStride = W * C;
   const p0 = planes[0];
   const p1 = planes.length === 3 ? planes[1] : p0;
   const p2 = planes.length === 3 ? planes[2] : p0;
-  const third = 1 / 3;
+  // Clip test by one bit: the tables have 2^n entries, so clip + 1 = 2^n and, for codes ≤ clip, (c + 1) & 2^n is set
+  // exactly when c === clip; OR-ing the (c + 1) of several codes tests them all at once.
+  const clipBit = clip + 1;
+  const oneBit = (clipBit & clip) === 0;
   let outside = 0;
   const qFirst = offsetPx[0];
+  const last = rows - 1;
   for (let i = 0; i < columns; i++) {
-    let x = g.x0 + i * g.colDx + qFirst * g.rowDx;
-    let y = g.y0 + i * g.colDy + qFirst * g.rowDy;
-    let k = i * rows;
-    for (let j = 0; j < rows; j++, k++, x += sdx, y += sdy) {
-      if (!(x >= -1e-6 && x <= W - 1 + 1e-6 && y >= -1e-6 && y <= H - 1 + 1e-6)) {
-        p0[k] = 0;
-        if (C === 3 && !combine) p1[k] = p2[k] = 0;
-        outside++;
-        continue;
+    const x = g.x0 + i * g.colDx + qFirst * g.rowDx;
+    const y = g.y0 + i * g.colDy + qFirst * g.rowDy;
+    const k = i * rows;
+    // The samples of a column lie on a straight line: when both ends fall inside [0, W − 1) × [0, H − 1) every sample
+    // does, and the bounds tests and clamps of the general loop can go (they would not change any value there).
+    const xe = x + last * sdx;
+    const ye = y + last * sdy;
+    // (A margin of 1e-3 px keeps the running sums' rounding from carrying a sample across an edge.)
+    const lo = 1e-3;
+    const xHi = W - 1 - 1e-3;
+    const yHi = H - 1 - 1e-3;
+    const interior = x >= lo && xe >= lo && y >= lo && ye >= lo && x < xHi && xe < xHi && y < yHi && ye < yHi;
+    if (interior && oneBit && C === 3) {
+      if (combine) interiorColumn3Combined(codes, lut, W, clipBit, x, y, sdx, sdy, rows, k, p0, valid, saturated);
+      else interiorColumn3(codes, lut, W, clipBit, x, y, sdx, sdy, rows, k, p0, p1, p2, valid, saturated);
+    } else {
+      outside += generalColumnCodes(px, codes, lut, x, y, sdx, sdy, rows, k, combine, p0, p1, p2, valid, saturated);
+    }
+  }
+  return outside;
+}
+
+/**
+ * One column of an RGB band, every sample inside the image: the same arithmetic as generalColumnCodes (so the same
+ * values to the last bit) without bounds tests; the clip test goes detailed only where a neighbour is clipped.
+ */
+function interiorColumn3(
+  codes: Uint8Array | Uint16Array,
+  lut: Float32Array,
+  W: number,
+  clipBit: number,
+  x: number,
+  y: number,
+  sdx: number,
+  sdy: number,
+  rows: number,
+  k: number,
+  p0: Float32Array,
+  p1: Float32Array,
+  p2: Float32Array,
+  valid: Uint8Array,
+  saturated: Uint8Array,
+): void {
+  const rowStride = 3 * W;
+  for (let j = 0; j < rows; j++, k++, x += sdx, y += sdy) {
+    const xi = Math.floor(x);
+    const yi = Math.floor(y);
+    const fx = x - xi;
+    const fy = y - yi;
+    const w00 = (1 - fx) * (1 - fy);
+    const w01 = fx * (1 - fy);
+    const w10 = (1 - fx) * fy;
+    const w11 = fx * fy;
+    const a = (yi * W + xi) * 3;
+    const b = a + rowStride;
+    valid[k] = 1;
+    const r00 = codes[a], g00 = codes[a + 1], b00 = codes[a + 2];
+    const r01 = codes[a + 3], g01 = codes[a + 4], b01 = codes[a + 5];
+    const r10 = codes[b], g10 = codes[b + 1], b10 = codes[b + 2];
+    const r11 = codes[b + 3], g11 = codes[b + 4], b11 = codes[b + 5];
+    p0[k] = w00 * lut[r00] + w01 * lut[r01] + w10 * lut[r10] + w11 * lut[r11];
+    p1[k] = w00 * lut[g00] + w01 * lut[g01] + w10 * lut[g10] + w11 * lut[g11];
+    p2[k] = w00 * lut[b00] + w01 * lut[b01] + w10 * lut[b10] + w11 * lut[b11];
+    const t00 = (r00 + 1) | (g00 + 1) | (b00 + 1);
+    const t01 = (r01 + 1) | (g01 + 1) | (b01 + 1);
+    const t10 = (r10 + 1) | (g10 + 1) | (b10 + 1);
+    const t11 = (r11 + 1) | (g11 + 1) | (b11 + 1);
+    if ((t00 | t01 | t10 | t11) & clipBit) {
+      if ((w00 > 0 && t00 & clipBit) || (w01 > 0 && t01 & clipBit) || (w10 > 0 && t10 & clipBit) || (w11 > 0 && t11 & clipBit)) saturated[k] = 1;
+    }
+  }
+}
+
+/** interiorColumn3 for one combined plane, (R + G + B)/3. */
+function interiorColumn3Combined(
+  codes: Uint8Array | Uint16Array,
+  lut: Float32Array,
+  W: number,
+  clipBit: number,
+  x: number,
+  y: number,
+  sdx: number,
+  sdy: number,
+  rows: number,
+  k: number,
+  p0: Float32Array,
+  valid: Uint8Array,
+  saturated: Uint8Array,
+): void {
+  const rowStride = 3 * W;
+  const third = 1 / 3;
+  for (let j = 0; j < rows; j++, k++, x += sdx, y += sdy) {
+    const xi = Math.floor(x);
+    const yi = Math.floor(y);
+    const fx = x - xi;
+    const fy = y - yi;
+    const w00 = (1 - fx) * (1 - fy);
+    const w01 = fx * (1 - fy);
+    const w10 = (1 - fx) * fy;
+    const w11 = fx * fy;
+    const a = (yi * W + xi) * 3;
+    const b = a + rowStride;
+    valid[k] = 1;
+    const r00 = codes[a], g00 = codes[a + 1], b00 = codes[a + 2];
+    const r01 = codes[a + 3], g01 = codes[a + 4], b01 = codes[a + 5];
+    const r10 = codes[b], g10 = codes[b + 1], b10 = codes[b + 2];
+    const r11 = codes[b + 3], g11 = codes[b + 4], b11 = codes[b + 5];
+    const r = w00 * lut[r00] + w01 * lut[r01] + w10 * lut[r10] + w11 * lut[r11];
+    const gg = w00 * lut[g00] + w01 * lut[g01] + w10 * lut[g10] + w11 * lut[g11];
+    const bb = w00 * lut[b00] + w01 * lut[b01] + w10 * lut[b10] + w11 * lut[b11];
+    p0[k] = (r + gg + bb) * third;
+    const t00 = (r00 + 1) | (g00 + 1) | (b00 + 1);
+    const t01 = (r01 + 1) | (g01 + 1) | (b01 + 1);
+    const t10 = (r10 + 1) | (g10 + 1) | (b10 + 1);
+    const t11 = (r11 + 1) | (g11 + 1) | (b11 + 1);
+    if ((t00 | t01 | t10 | t11) & clipBit) {
+      if ((w00 > 0 && t00 & clipBit) || (w01 > 0 && t01 & clipBit) || (w10 > 0 && t10 & clipBit) || (w11 > 0 && t11 & clipBit)) saturated[k] = 1;
+    }
+  }
+}
+
+/** One column of the general loop over codes (any channel count, samples outside the image, edges); returns the outside count. */
+function generalColumnCodes(
+  px: PixelAccess,
+  codes: Uint8Array | Uint16Array,
+  lut: Float32Array,
+  x: number,
+  y: number,
+  sdx: number,
+  sdy: number,
+  rows: number,
+  k: number,
+  combine: boolean,
+  p0: Float32Array,
+  p1: Float32Array,
+  p2: Float32Array,
+  valid: Uint8Array,
+  saturated: Uint8Array,
+): number {
+  const { width: W, height: H, channels: C, clipCode: clip } = px;
+  const rowStride = W * C;
+  const third = 1 / 3;
+  let outside = 0;
+  for (let j = 0; j < rows; j++, k++, x += sdx, y += sdy) {
+    if (!(x >= -1e-6 && x <= W - 1 + 1e-6 && y >= -1e-6 && y <= H - 1 + 1e-6)) {
+      p0[k] = 0;
+      if (C === 3 && !combine) p1[k] = p2[k] = 0;
+      outside++;
+      continue;
+    }
+    let xi = Math.floor(x);
+    let yi = Math.floor(y);
+    if (xi > W - 2) xi = W - 2;
+    else if (xi < 0) xi = 0;
+    if (yi > H - 2) yi = H - 2;
+    else if (yi < 0) yi = 0;
+    const fx = x - xi;
+    const fy = y - yi;
+    const w00 = (1 - fx) * (1 - fy);
+    const w01 = fx * (1 - fy);
+    const w10 = (1 - fx) * fy;
+    const w11 = fx * fy;
+    const a = (yi * W + xi) * C;
+    const b = a + rowStride;
+    valid[k] = 1;
+    if (C === 1) {
+      const c00 = codes[a];
+      const c01 = codes[a + 1];
+      const c10 = codes[b];
+      const c11 = codes[b + 1];
+      p0[k] = w00 * lut[c00] + w01 * lut[c01] + w10 * lut[c10] + w11 * lut[c11];
+      if ((w00 > 0 && c00 === clip) || (w01 > 0 && c01 === clip) || (w10 > 0 && c10 === clip) || (w11 > 0 && c11 === clip)) saturated[k] = 1;
+    } else {
+      const r00 = codes[a], g00 = codes[a + 1], b00 = codes[a + 2];
+      const r01 = codes[a + 3], g01 = codes[a + 4], b01 = codes[a + 5];
+      const r10 = codes[b], g10 = codes[b + 1], b10 = codes[b + 2];
+      const r11 = codes[b + 3], g11 = codes[b + 4], b11 = codes[b + 5];
+      const r = w00 * lut[r00] + w01 * lut[r01] + w10 * lut[r10] + w11 * lut[r11];
+      const gg = w00 * lut[g00] + w01 * lut[g01] + w10 * lut[g10] + w11 * lut[g11];
+      const bb = w00 * lut[b00] + w01 * lut[b01] + w10 * lut[b10] + w11 * lut[b11];
+      if (combine) p0[k] = (r + gg + bb) * third;
+      else {
+        p0[k] = r;
+        p1[k] = gg;
+        p2[k] = bb;
       }
-      let xi = Math.floor(x);
-      let yi = Math.floor(y);
-      if (xi > W - 2) xi = W - 2;
-      else if (xi < 0) xi = 0;
-      if (yi > H - 2) yi = H - 2;
-      else if (yi < 0) yi = 0;
-      const fx = x - xi;
-      const fy = y - yi;
-      const w00 = (1 - fx) * (1 - fy);
-      const w01 = fx * (1 - fy);
-      const w10 = (1 - fx) * fy;
-      const w11 = fx * fy;
-      const a = (yi * W + xi) * C;
-      const b = a + rowStride;
-      valid[k] = 1;
-      if (C === 1) {
-        const c00 = codes[a];
-        const c01 = codes[a + 1];
-        const c10 = codes[b];
-        const c11 = codes[b + 1];
-        p0[k] = w00 * lut[c00] + w01 * lut[c01] + w10 * lut[c10] + w11 * lut[c11];
-        if ((w00 > 0 && c00 === clip) || (w01 > 0 && c01 === clip) || (w10 > 0 && c10 === clip) || (w11 > 0 && c11 === clip)) saturated[k] = 1;
-      } else {
-        const r00 = codes[a], g00 = codes[a + 1], b00 = codes[a + 2];
-        const r01 = codes[a + 3], g01 = codes[a + 4], b01 = codes[a + 5];
-        const r10 = codes[b], g10 = codes[b + 1], b10 = codes[b + 2];
-        const r11 = codes[b + 3], g11 = codes[b + 4], b11 = codes[b + 5];
-        const r = w00 * lut[r00] + w01 * lut[r01] + w10 * lut[r10] + w11 * lut[r11];
-        const gg = w00 * lut[g00] + w01 * lut[g01] + w10 * lut[g10] + w11 * lut[g11];
-        const bb = w00 * lut[b00] + w01 * lut[b01] + w10 * lut[b10] + w11 * lut[b11];
-        if (combine) p0[k] = (r + gg + bb) * third;
-        else {
-          p0[k] = r;
-          p1[k] = gg;
-          p2[k] = bb;
-        }
-        if (
-          (w00 > 0 && (r00 === clip || g00 === clip || b00 === clip)) ||
-          (w01 > 0 && (r01 === clip || g01 === clip || b01 === clip)) ||
-          (w10 > 0 && (r10 === clip || g10 === clip || b10 === clip)) ||
-          (w11 > 0 && (r11 === clip || g11 === clip || b11 === clip))
-        ) {
-          saturated[k] = 1;
-        }
+      if (
+        (w00 > 0 && (r00 === clip || g00 === clip || b00 === clip)) ||
+        (w01 > 0 && (r01 === clip || g01 === clip || b01 === clip)) ||
+        (w10 > 0 && (r10 === clip || g10 === clip || b10 === clip)) ||
+        (w11 > 0 && (r11 === clip || g11 === clip || b11 === clip))
+      ) {
+        saturated[k] = 1;
       }
     }
   }
