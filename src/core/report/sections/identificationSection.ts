@@ -29,7 +29,8 @@ interface SpeciesRow {
 }
 
 interface IdentifiedRow extends PeakRow {
-  line: { element: string; spectrum?: string; wavelengthNm: number } | null;
+  /** `order`: the diffraction order the line is seen in, when not the first (it then appears at order × λ). */
+  line: { element: string; spectrum?: string; wavelengthNm: number; order: number } | null;
   confidence?: number;
 }
 
@@ -60,7 +61,7 @@ export function identificationSection(json: unknown, options: SectionOptions): R
     const line = p.optObj('line');
     return {
       ...readPeak(new JsonView({ ...p.value, height: strength ? p.num(strength) : 1 }, p.path)),
-      line: line ? { element: line.str('element'), spectrum: line.optStr('spectrum'), wavelengthNm: line.num('wavelength_nm') } : null,
+      line: line ? { element: line.str('element'), spectrum: line.optStr('spectrum'), wavelengthNm: line.num('wavelength_nm'), order: line.optNum('order') ?? 1 } : null,
       confidence: p.optNum('confidence'),
     };
   });
@@ -136,7 +137,7 @@ export function identificationSection(json: unknown, options: SectionOptions): R
     .map((p) => ({
       x: p.wavelengthNm!,
       height: p.height,
-      label: p.line ? `${p.line.spectrum ?? p.line.element} ${p.line.wavelengthNm.toFixed(1)}` : `? ${p.wavelengthNm!.toFixed(1)}`,
+      label: p.line ? `${p.line.spectrum ?? p.line.element} ${p.line.wavelengthNm.toFixed(1)}${p.line.order !== 1 ? ` (order ${p.line.order})` : ''}` : `? ${p.wavelengthNm!.toFixed(1)}`,
       colour: p.line ? (colourOf.get(p.line.element) ?? PALETTE.series[4]) : PALETTE.muted,
       lowerBound: p.saturated,
       hollow: p.blended,
@@ -188,9 +189,10 @@ export function identificationSection(json: unknown, options: SectionOptions): R
     numeric: [0, 2, 3, 4],
     rows: peaks.map((p) => [
       withU(p.wavelengthNm, p.wavelengthUncertaintyNm),
-      p.line ? `${p.line.spectrum ?? p.line.element}` : 'unexplained',
-      p.line ? p.line.wavelengthNm.toFixed(3) : undefined,
-      p.line && p.wavelengthNm !== undefined ? likeU(p.wavelengthNm - p.line.wavelengthNm, p.wavelengthUncertaintyNm) : undefined,
+      p.line ? `${p.line.spectrum ?? p.line.element}${p.line.order !== 1 ? `, order ${p.line.order}` : ''}` : 'unexplained',
+      p.line ? `${p.line.wavelengthNm.toFixed(3)}${p.line.order !== 1 ? ` × ${p.line.order}` : ''}` : undefined,
+      // A line seen in order m appears at m·λ on the first-order scale.
+      p.line && p.wavelengthNm !== undefined ? likeU(p.wavelengthNm - p.line.order * p.line.wavelengthNm, p.wavelengthUncertaintyNm) : undefined,
       p.confidence === undefined ? undefined : p.confidence.toFixed(2),
       peakNotes(p, measure),
     ]),

@@ -94,11 +94,17 @@ export function polarizationSection(json: unknown, options: SectionOptions): Res
     }
     const malus = malusFitFromJson(r);
     if (malus) {
+      // The plot shows the readings as taken (analyser scale, measured DoLP); say so when the figures above are
+      // corrected, so that the two do not seem to disagree.
+      const corrected = offset !== undefined || er !== undefined;
       svgs.push(
         plotPolarization({
           document: options.document,
           fit: malus,
           correctedAzimuthDeg: offset !== undefined && az !== undefined ? az : undefined,
+          title: corrected
+            ? `As measured: DoLP ${malus.dolp.toFixed(3)}, max. at ${malus.azimuthDeg.toFixed(1)}° on the scale (corrected: ${dolp.toFixed(3)}${az !== undefined ? `, ${az.toFixed(1)}°` : ''})`
+            : undefined,
         }).outerHTML,
       );
     } else if (points.length) {

@@ -44,6 +44,8 @@ function neonWithMercury(): Record<string, any> {
       peak(650.653, 25, line('Ne', 650.653)),
       peak(692.947, 12, line('Ne', 692.947)),
       peak(703.241, 30, line('Ne', 703.241)),
+      // Hg I 435.833 nm again in the second order, at 871.666 nm on the first-order scale.
+      peak(871.666, 0.5, { ...line('Hg', 435.833), order: 2 } as ReturnType<typeof line>),
     ],
     unexplained_flux_fraction: 0.03,
     calibration: { from: 'profile', rms_nm: 0.08, file: 'rig.json' },
@@ -72,6 +74,11 @@ describe('identificationSection(json, {document})', () => {
     const labels = [...svg.querySelectorAll('text.stick-label')].map((t) => t.textContent);
     expect(labels).toContain('Ne I 640.2');
     expect(labels).toContain('? 603.0');
+    expect(labels).toContain('Hg I 435.8 (order 2)');
+    const peaks = section.tables!.find((t) => /^Peaks/.test(t.caption ?? ''))!;
+    const second = peaks.rows.find((r) => r[1] === 'Hg I, order 2')!;
+    expect(second[2]).toBe('435.833 × 2');
+    expect(plainText(String(second[3]))).toBe('0.030');
     expect(section.svgs![0]).toMatch(/log scale/);
     const species = section.tables!.find((t) => /^Species/.test(t.caption ?? ''))!;
     expect(species.rows[2][5]).toBe('763.5, 811.5');
