@@ -266,12 +266,7 @@ function extractFromSamples(s: SampledBand, o: Resolved): ExtractedSpectrum {
   else if (!sides.negative && !sides.positive) warnings.push('no off-band rows inside the image: background not subtracted');
   else if (!sides.negative || !sides.positive) warnings.push('off-band rows on one side only: background taken as flat across the band');
   // The channel mean of every sample (one pass; the noise statistics and the object rows read it).
-  let combined = s.planes[0];
-  if (colour) {
-    combined = new Float32Array(N * R);
-    const [p0, p1, p2] = s.planes;
-    for (let k = 0; k < N * R; k++) combined[k] = (p0[k] + p1[k] + p2[k]) * (1 / 3);
-  }
+  const combined = colour ? channelMean(s.planes) : s.planes[0];
   const noiseOff = offBandNoise(combined, bg, s.valid, N, R, q, low, high);
   const rowCorrelation = clampCorrelation(noiseOff.rowCorrelation);
   const columnCorrelation = clampCorrelation(noiseOff.columnCorrelation);
@@ -300,26 +295,7 @@ function extractFromSamples(s: SampledBand, o: Resolved): ExtractedSpectrum {
   const combTerms = termsFor(noiseOff);
 
   // 3. D' of the channel mean, the box spectrum, and the mask (1 = inside the image), in one pass.
-  const data = new Float32Array(N * M);
-  const mask = new Uint8Array(N * M);
-  const box = new Float64Array(N);
-  {
-    const valid = s.valid;
-    const { base, slope } = bg;
-    for (let i = 0; i < N; i++) {
-      const b0 = base[i];
-      const s0 = slope[i];
-      let f = 0;
-      for (let j = 0, k = i * M, ks = i * R + jo0; j < M; j++, k++, ks++) {
-        if (!valid[ks]) continue;
-        mask[k] = 1;
-        const d = combined[ks] - (b0 + qObj[j] * s0);
-        data[k] = d;
-        f += d;
-      }
-      box[i] = f;
-    }
-  }
+  const { data, mask, box } = objectRows(combined, s.valid, bg, layout);
 
   // 4. Spatial profile (outlying samples clamped at 5 σ of the off-band noise).
   const sampleSigma = noiseOff.variance > 0 ? Math.sqrt(noiseOff.variance) : Math.sqrt(columnScatter(data, mask, M, N));
@@ -435,6 +411,47 @@ function extractFromSamples(s: SampledBand, o: Resolved): ExtractedSpectrum {
   };
   if (channelVar) result.channelVariance = channelVar;
   return result;
+}
+
+// The loops below are functions of their own, not blocks of extractFromSamples: a function that runs once per photo
+// is compiled by the JIT while its first loop runs (on-stack replacement) and thrown away on reaching code not run
+// yet; one loop per function makes each compile small and keeps it.
+
+/** (R + G + B)/3 of every sample. */
+function channelMean(planes: Float32Array[]): Float32Array {
+  const [p0, p1, p2] = planes;
+  const n = p0.length;
+  const out = new Float32Array(n);
+  for (let k = 0; k < n; k++) out[k] = (p0[k] + p1[k] + p2[k]) * (1 / 3);
+  return out;
+}
+
+/** D' = D − S of the object rows, the mask (1 = inside the image) and the box spectrum Σ D', in one pass. */
+function objectRows(
+  combined: Float32Array,
+  valid: Uint8Array,
+  bg: ColumnBackground,
+  layout: ObjectLayout,
+): { data: Float32Array; mask: Uint8Array; box: Float64Array } {
+  const { columns: N, rows: M, sampledRows: R, firstRow: jo0, offsetPx: qObj } = layout;
+  const data = new Float32Array(N * M);
+  const mask = new Uint8Array(N * M);
+  const box = new Float64Array(N);
+  const { base, slope } = bg;
+  for (let i = 0; i < N; i++) {
+    const b0 = base[i];
+    const s0 = slope[i];
+    let f = 0;
+    for (let j = 0, k = i * M, ks = i * R + jo0; j < M; j++, k++, ks++) {
+      if (!valid[ks]) continue;
+      mask[k] = 1;
+      const d = combined[ks] - (b0 + qObj[j] * s0);
+      data[k] = d;
+      f += d;
+    }
+    box[i] = f;
+  }
+  return { data, mask, box };
 }
 
 function clampCorrelation(r: number): number {

@@ -40,10 +40,7 @@ export function spatialProfile(input: ProfileInput): SpatialProfile {
   const profile = new Float32Array(M * N);
 
   // Global profile: Σ_i D_j / Σ_i f, clamped at 0 and normalised (uniform when the band holds no light).
-  const global = new Float64Array(M);
-  for (let i = 0; i < N; i++) {
-    for (let j = 0, k = i * M; j < M; j++, k++) if (valid[k]) global[j] += data[k];
-  }
+  const global = rowSums(data, valid, M, N);
   let gsum = 0;
   for (let j = 0; j < M; j++) gsum += global[j] = Math.max(0, global[j]);
   let total = 0;
@@ -55,8 +52,34 @@ export function spatialProfile(input: ProfileInput): SpatialProfile {
   const kappa = 3 * Math.sqrt(2 * half + 1) * neighbourSigma(flux) + 1e-30;
 
   // Clamped contributions, then running window sums over columns [a, b) of every row, and of the flux.
+  const clamped = clampedContributions(data, valid, M, N, flux, global, 5 * input.sampleSigma);
+  windowedProfile(clamped, M, N, flux, global, half, kappa, profile);
+  return { profile, global };
+}
+
+// One loop per function (not blocks of spatialProfile): the JIT compiles a once-called function while its first loop
+// runs and drops that code on reaching the next, not yet run; small functions are compiled once and kept.
+
+/** Σ_i D_ij over the valid samples, per row j. */
+function rowSums(data: Float32Array, valid: Uint8Array, M: number, N: number): Float64Array {
+  const global = new Float64Array(M);
+  for (let i = 0; i < N; i++) {
+    for (let j = 0, k = i * M; j < M; j++, k++) if (valid[k]) global[j] += data[k];
+  }
+  return global;
+}
+
+/** Each sample clamped to G_j f_i ± (clip + 0.5 |G_j f_i|) (no clamp when clip is 0). */
+function clampedContributions(
+  data: Float32Array,
+  valid: Uint8Array,
+  M: number,
+  N: number,
+  flux: Float64Array,
+  global: Float64Array,
+  clip: number,
+): Float32Array {
   const clamped = new Float32Array(M * N);
-  const clip = 5 * input.sampleSigma;
   for (let i = 0; i < N; i++) {
     const f = flux[i];
     for (let j = 0, k = i * M; j < M; j++, k++) {
@@ -67,6 +90,20 @@ export function spatialProfile(input: ProfileInput): SpatialProfile {
       clamped[k] = clip > 0 ? (v > expect + tol ? expect + tol : v < expect - tol ? expect - tol : v) : v;
     }
   }
+  return clamped;
+}
+
+/** The running window ratio of the file comment, normalised per column, into `profile`. */
+function windowedProfile(
+  clamped: Float32Array,
+  M: number,
+  N: number,
+  flux: Float64Array,
+  global: Float64Array,
+  half: number,
+  kappa: number,
+  profile: Float32Array,
+): void {
   const win = new Float64Array(M);
   let fluxWin = 0;
   let a = 0;
@@ -101,7 +138,6 @@ export function spatialProfile(input: ProfileInput): SpatialProfile {
       for (let j = 0; j < M; j++) profile[base + j] = global[j];
     }
   }
-  return { profile, global };
 }
 
 /** Robust σ of a sequence from its first differences: 1.4826 · median|Δ| / √2 (white noise, slowly varying signal). */
