@@ -1,0 +1,400 @@
+import type { CalibrationPoint } from '../calibration/fitDispersion.js';
+import { fitScale, type ScaleFit } from './scaleFit.js';
+import { matchLines, type MatchLinesOptions } from '../calibration/matchLines.js';
+import { wavelengthAtNm } from '../calibration/model.js';
+import type { CalibrationScale } from '../calibration/uncertainty.js';
+import { invalid } from '../errors.js';
+import type { Peak, SpectralLine } from '../types.js';
+import { brightLineScales } from './brightLineScales.js';
+import { calibratePeaks } from './calibratePeaks.js';
+import { identifySpecies, IDENTIFY_DEFAULTS, NO_EMISSION_LINES, type Identification, type IdentifyOptions } from './identifySpecies.js';
+
+/**
+ * Lamps tried as the calibration when there is no profile: the fills of discharge tubes and sign tubing, alone and in
+ * the usual mixtures. Other elements are still identified on the scale one of these gives.
+ */
+export const SELF_CALIBRATION_LAMPS: readonly string[] = ['Ne', 'Ar', 'He', 'Hg', 'Kr', 'Xe', 'H', 'Na', 'Ar+Hg', 'Ne+Hg', 'He+Ne', 'Ne+Ar'];
+
+export interface SelfCalibrationOptions extends Omit<IdentifyOptions, 'rangeNm' | 'systematicNm' | 'evidencePenalty'> {
+  /** Lamp specs ('Ne', 'Ar+Hg'), each a set of elements whose lines (from `lines`) are tried as the calibration. */
+  lamps?: readonly string[];
+  /** Extent of the spectrum along the band (px): its wavelength range on each candidate scale. @default the peaks' extent */
+  positionRangePx?: readonly [number, number];
+  /** What a camera can see at all (nm): the covered range is clipped to it. @default [350, 1000] */
+  cameraRangeNm?: readonly [number, number];
+  /** Passed to the line matcher (e.g. a known dispersion range). */
+  match?: Partial<MatchLinesOptions>;
+}
+
+export const SELF_CALIBRATION_DEFAULTS = {
+  lamps: SELF_CALIBRATION_LAMPS,
+  cameraRangeNm: [350, 1000] as readonly [number, number],
+  /** Two scales are one when they put every peak within this many RMS of each other. */
+  sameScaleRms: 3,
+} as const;
+
+/** The scale the spectrum gave itself. */
+export interface SelfCalibration {
+  from: 'self';
+  /** The lamp whose lines made the scale ('Ne', 'Ar+Hg'). */
+  lamp: string;
+  /** Other lamps that gave the same scale. */
+  agreeingLamps: string[];
+  rmsNm: number;
+  linesUsed: number;
+  /** Whether the line matcher accepted the lamp on its own (else the identification on the scale carried it). */
+  matcherAccepted: boolean;
+  /** log10 of the chance that the line match is a coincidence (the matcher's Bonferroni bound; 0 when the scale came from the brightest-line search). */
+  log10FalseMatch: number;
+  /** Refitted to every line the identification placed, not only the lamp's own. */
+  refined: boolean;
+  /** Posterior probability of this scale among the candidates and "none of them" (see identifySelfCalibrated). */
+  probability: number;
+  dispersionNmPerPx: number;
+  /** Wavelengths of the first and last line used (nm). */
+  rangeNm: [number, number];
+  /** Wavelength range the spectrum covers on this scale (nm). */
+  coveredRangeNm: [number, number];
+  /** Evidence (nats) taken off the lamp's species for fitting the scale to their own lines. */
+  evidencePenalty: number;
+  fit: ScaleFit;
+}
+
+/** One candidate scale, for the record. */
+export interface ScaleCandidate {
+  lamp: string;
+  agreeingLamps: string[];
+  linesUsed: number;
+  rmsNm: number;
+  matcherAccepted: boolean;
+  log10FalseMatch: number;
+  /** ln posterior odds of the identification on this scale (identifySpecies' modelEvidence). */
+  modelEvidence: number;
+  /** modelEvidence less the matcher's search (ln of its number of scale hypotheses): what the scales are ranked by. */
+  jointEvidence: number;
+  probability: number;
+  present: string[];
+  chosen: boolean;
+}
+
+export interface SelfCalibratedIdentification extends Identification {
+  /** null when no candidate scale explains the peaks (then nothing is identified). */
+  calibration: SelfCalibration | null;
+  candidates: ScaleCandidate[];
+}
+
+interface Solution {
+  lamp: string;
+  /** Element of each matched line. */
+  lines: string[];
+  agreeing: string[];
+  fit: ScaleFit;
+  accepted: boolean;
+  log10FalseMatch: number;
+  /** ln of the number of scale hypotheses the matcher's search could produce. */
+  searchNats: number;
+  wavelengths: Float64Array;
+}
+
+interface Evaluated {
+  s: Solution;
+  fit: ScaleFit;
+  refined: boolean;
+  identification: Identification;
+  covered: [number, number];
+  penalty: number;
+  joint: number;
+  probability: number;
+}
+
+function lampElements(spec: string): string[] {
+  const parts = spec.split('+').map((x) => x.trim()).filter(Boolean);
+  if (parts.length === 0) throw invalid('lamps', "lamp specs such as 'Ne' or 'Ar+Hg'", spec);
+  return parts;
+}
+
+/** A scale needs lines beyond its own parameters to be checked at all. */
+const MIN_SCALE_LINES = 4;
+
+/**
+ * Identification with no profile: the spectrum calibrates itself.
+ *
+ * 1. Candidate scales: for each lamp its lines go to the automatic line matcher (calibration/matchLines.ts); its best
+ *    solution with at least 4 lines is fitted (scaleFit.ts), whether or not the matcher accepted it on its own: a
+ *    lamp of few lines may be carried by what the scale explains. Solutions that put the peaks at the same
+ *    wavelengths are merged. Hypotheses from the brightest peaks (brightLineScales.ts) join them.
+ * 2. On each scale the peaks are identified with the whole line list (identifySpecies), then the scale is refitted
+ *    to every single, unblended line the identification placed with confidence ≥ 0.9 and the peaks identified again;
+ *    the refit is kept when it explains the peaks better.
+ * 3. Scales are ranked by the joint evidence J = modelEvidence − ln T, T the number of scale hypotheses the search
+ *    could produce (the matcher's count, or the brightest-line pairs tried: the look-elsewhere cost of the search). Their posterior probabilities, with "none of these scales" at J = 0,
+ *    are p_c = e^{J_c} / (1 + Σ e^{J}); a species' score is its score on each scale weighted by p_c (Bayesian model
+ *    averaging), so competing scales lower every confidence; presence is judged on the most probable scale.
+ *
+ * The lamp's own species lose further evidence: their lines made the scale and are evidence on it. The scale's p
+ * fitted parameters are worth p nats (Akaike's estimate of the optimism of a fitted log-likelihood, Akaike 1974) and
+ * the K lamps tried ln K (a Bonferroni bound); both come off their evidence, shared by the lines each element gave.
+ * Every species is judged with the self-calibration's RMS as the scale's uncertainty.
+ */
+export function identifySelfCalibrated(peaks: readonly Peak[], options: SelfCalibrationOptions): SelfCalibratedIdentification {
+  const lamps = options.lamps ?? SELF_CALIBRATION_DEFAULTS.lamps;
+  const camera = options.cameraRangeNm ?? SELF_CALIBRATION_DEFAULTS.cameraRangeNm;
+  const usable = peaks.filter((p) => Number.isFinite(p.positionPx) && Number.isFinite(p.area));
+  const positions = usable.map((p) => p.positionPx);
+  const extent = options.positionRangePx ?? ([Math.min(...positions), Math.max(...positions)] as const);
+  const base: Omit<IdentifyOptions, 'rangeNm' | 'systematicNm'> = { ...options };
+  const minSnr = options.minLineSnr ?? IDENTIFY_DEFAULTS.minLineSnr;
+  const lineLike = usable.filter((p) => p.snr >= minSnr).length;
+  const empty = (): Identification => identifySpecies([], { ...base, rangeNm: [camera[0], camera[1]] });
+  if (lineLike === 0) {
+    const why = usable.length === 0 ? 'the spectrum has no peaks' : `${usable.length} peak(s), none with SNR ≥ ${minSnr}: noise or continuum only`;
+    return { ...empty(), warnings: [`${NO_EMISSION_LINES}: ${why}; no species is named`], calibration: null, candidates: [] };
+  }
+
+  const solutions = usable.length >= MIN_SCALE_LINES ? candidateScales(usable, lamps, options, camera) : [];
+  if (usable.length >= MIN_SCALE_LINES) addBrightLineScales(solutions, usable, lamps, options, camera);
+  const evaluated: Evaluated[] = solutions.map((s) => {
+    const penalty = (s.fit.model.kind === 'polynomial' ? s.fit.model.degree + 1 : 3) + Math.log(lamps.length);
+    const evidencePenalty: Record<string, number> = {};
+    const count = new Map<string, number>();
+    for (const e of s.lines) count.set(e, (count.get(e) ?? 0) + 1);
+    for (const e of lampElements(s.lamp)) evidencePenalty[e] = (penalty * (count.get(e) ?? 0)) / Math.max(s.lines.length, 1);
+    const first = identifyOnScale(usable, s.fit, extent, camera, base, evidencePenalty);
+    let best = { fit: s.fit, refined: false, ...first };
+    const refit = refineScale(usable, first.identification, s.fit);
+    if (refit) {
+      const second = identifyOnScale(usable, refit, extent, camera, base, evidencePenalty);
+      if (second.identification.modelEvidence > first.identification.modelEvidence) best = { fit: refit, refined: true, ...second };
+    }
+    // The scale's evidence: the identification's, its own-line penalties given back (the search term counts the
+    // fitting; which species the lamp is, is already paid for by each species' prior), less the search that found it.
+    const given = best.identification.species.filter((x) => x.present).reduce((sum, x) => sum + (evidencePenalty[x.element] ?? 0), 0);
+    const joint = best.identification.modelEvidence + given - s.searchNats;
+    return { s, ...best, penalty, joint, probability: 0 };
+  });
+  evaluated.sort((a, b) => b.joint - a.joint || a.s.log10FalseMatch - b.s.log10FalseMatch);
+  // Posterior probabilities of the scales, "none of them" at joint evidence 0 (log-sum-exp for large values).
+  const top = Math.max(0, ...evaluated.map((e) => e.joint));
+  const norm = Math.exp(-top) + evaluated.reduce((sum, e) => sum + Math.exp(e.joint - top), 0);
+  for (const e of evaluated) e.probability = Math.exp(e.joint - top) / norm;
+
+  const candidates: ScaleCandidate[] = evaluated.map((e, k) => ({
+    lamp: e.s.lamp,
+    agreeingLamps: e.s.agreeing,
+    linesUsed: e.fit.linesUsed,
+    rmsNm: e.fit.rmsNm,
+    matcherAccepted: e.s.accepted,
+    log10FalseMatch: e.s.log10FalseMatch,
+    modelEvidence: e.identification.modelEvidence,
+    jointEvidence: e.joint,
+    probability: e.probability,
+    present: e.identification.species.filter((x) => x.present).map((x) => x.element),
+    chosen: k === 0 && e.joint > 0,
+  }));
+  const best = evaluated[0];
+  if (!best || best.joint <= 0 || !best.identification.species.some((x) => x.present)) {
+    const why =
+      usable.length < MIN_SCALE_LINES
+        ? `${usable.length} peak(s): a wavelength scale from the spectrum itself needs at least ${MIN_SCALE_LINES} lines`
+        : `no candidate lamp (${lamps.join(', ')}) gives a scale on which the peaks are explained, so the spectrum cannot calibrate itself`;
+    return {
+      ...empty(),
+      emissionLinesFound: true,
+      unexplainedFluxFraction: 1,
+      warnings: [`${why}; nothing is identified — give a calibration profile (--calibration)`],
+      calibration: null,
+      candidates,
+    };
+  }
+
+  // Model averaging of the scores over the candidate scales.
+  const averaged = new Map<string, number>();
+  for (const e of evaluated) {
+    for (const x of e.identification.species) averaged.set(x.element, (averaged.get(x.element) ?? 0) + e.probability * x.score);
+  }
+  const species = best.identification.species
+    .map((x) => {
+      const score = averaged.get(x.element) ?? 0;
+      return { ...x, score, present: x.present && score >= 0.5 };
+    })
+    .sort((a, b) => Number(b.present) - Number(a.present) || b.score - a.score);
+  const fit = best.fit;
+  const calibration: SelfCalibration = {
+    from: 'self',
+    lamp: best.s.lamp,
+    agreeingLamps: best.s.agreeing,
+    rmsNm: fit.rmsNm,
+    linesUsed: fit.linesUsed,
+    matcherAccepted: best.s.accepted,
+    log10FalseMatch: best.s.log10FalseMatch,
+    refined: best.refined,
+    probability: best.probability,
+    dispersionNmPerPx: fit.dispersionNmPerPx,
+    rangeNm: fit.rangeNm,
+    coveredRangeNm: best.covered,
+    evidencePenalty: best.penalty,
+    fit,
+  };
+  const own = lampElements(best.s.lamp);
+  const notes = [
+    `wavelength scale from the spectrum itself (${best.s.lamp} lines, ${fit.linesUsed} used, RMS ${fit.rmsNm.toFixed(2)} nm, ` +
+      `probability ${best.probability.toFixed(2)} among the candidate scales): scores are averaged over those scales and ` +
+      `${own.join(' and ')} lose${own.length > 1 ? '' : 's'} evidence for making the scale; a calibration profile gives firmer answers`,
+  ];
+  const runner = evaluated.find((e) => e !== best && presentKey(e.identification) !== presentKey(best.identification) && e.joint > 0);
+  if (runner && best.joint - runner.joint < 3) {
+    notes.push(
+      `another self-calibrated scale (${runner.s.lamp} lines) explains the peaks almost as well, as ${presentKey(runner.identification) || 'nothing'}: ` +
+        `the identification is ambiguous without a calibration profile`,
+    );
+  }
+  return { ...best.identification, species, warnings: [...notes, ...best.identification.warnings], calibration, candidates };
+}
+
+/** Each lamp's best line match as a fitted scale, same scales merged (the most significant kept). */
+function candidateScales(
+  usable: readonly Peak[],
+  lamps: readonly string[],
+  options: SelfCalibrationOptions,
+  camera: readonly [number, number],
+): Solution[] {
+  const solutions: Solution[] = [];
+  for (const lamp of lamps) {
+    const lines = calibrationLines(lamp, options.lines, camera);
+    if (lines.length < MIN_SCALE_LINES) continue;
+    const match = matchLines(usable, lines, { wavelengthRangeNm: [camera[0], camera[1]], ...options.match });
+    if (!match.score || !match.model) continue;
+    const matched = match.matches.filter((m) => m.source === 'matched');
+    if (matched.length < MIN_SCALE_LINES) continue;
+    const fit = fitScale(
+      matched.map((m) => ({
+        positionPx: m.positionPx,
+        positionUncertaintyPx: m.positionUncertaintyPx,
+        wavelengthNm: m.wavelengthNm,
+        source: 'matched' as const,
+        saturated: m.saturated,
+        blended: m.blended,
+        peakIndex: m.peakIndex,
+      })),
+    );
+    if (!fit) continue;
+    const wavelengths = Float64Array.from(usable, (p) => wavelengthAtNm(fit.model, p.positionPx));
+    const log10Trials = match.score.log10Trials ?? 0;
+    const solution: Solution = {
+      lamp,
+      lines: matched.filter((m) => m.line).map((m) => m.line!.element),
+      agreeing: [],
+      fit,
+      accepted: match.accepted,
+      log10FalseMatch: match.score.log10Chance + log10Trials,
+      searchNats: Math.LN10 * Math.max(log10Trials, 0),
+      wavelengths,
+    };
+    const same = solutions.find((x) => sameScale(x, wavelengths, fit.rmsNm));
+    if (!same) {
+      solutions.push(solution);
+    } else if (solution.log10FalseMatch < same.log10FalseMatch) {
+      solution.agreeing = [same.lamp, ...same.agreeing];
+      solutions[solutions.indexOf(same)] = solution;
+    } else {
+      same.agreeing.push(lamp);
+    }
+  }
+  return solutions;
+}
+
+/** Scale hypotheses from the brightest peaks (brightLineScales.ts) for each single-element lamp, merged in. */
+function addBrightLineScales(
+  solutions: Solution[],
+  usable: readonly Peak[],
+  lamps: readonly string[],
+  options: SelfCalibrationOptions,
+  camera: readonly [number, number],
+): void {
+  const elements = lamps.filter((l) => lampElements(l).length === 1);
+  const lineLike = usable.filter((p) => p.snr >= (options.minLineSnr ?? IDENTIFY_DEFAULTS.minLineSnr));
+  for (const h of brightLineScales(lineLike, options.lines, elements, camera, { dispersionNmPerPx: options.match?.dispersionNmPerPx })) {
+    const fit = fitScale(h.points);
+    if (!fit) continue;
+    const wavelengths = Float64Array.from(usable, (p) => wavelengthAtNm(fit.model, p.positionPx));
+    // Kept even where a matcher solution gives much the same scale: the two fits differ, and the ranking picks.
+    solutions.push({
+      lamp: h.element,
+      lines: h.points.map(() => h.element),
+      agreeing: [],
+      fit,
+      accepted: false,
+      log10FalseMatch: 0,
+      searchNats: h.searchNats,
+      wavelengths,
+    });
+  }
+}
+
+function identifyOnScale(
+  usable: readonly Peak[],
+  fit: ScaleFit,
+  extent: readonly [number, number],
+  camera: readonly [number, number],
+  base: Omit<IdentifyOptions, 'rangeNm' | 'systematicNm'>,
+  evidencePenalty: Record<string, number>,
+): { identification: Identification; covered: [number, number] } {
+  const scale: CalibrationScale = { model: fit.model, rangePx: fit.rangePx, checkModel: fit.checkModel };
+  const lo = wavelengthAtNm(fit.model, extent[0]);
+  const hi = wavelengthAtNm(fit.model, extent[1]);
+  const covered: [number, number] = [Math.max(camera[0], Math.min(lo, hi)), Math.min(camera[1], Math.max(lo, hi))];
+  const identification = identifySpecies(calibratePeaks(usable, scale), {
+    ...base,
+    rangeNm: covered[1] > covered[0] ? covered : [camera[0], camera[1]],
+    systematicNm: Math.max(fit.rmsNm, IDENTIFY_DEFAULTS.systematicNm),
+    evidencePenalty,
+  });
+  return { identification, covered };
+}
+
+/** The scale refitted to the lines the identification placed: single lines, unblended, unclipped, confident. */
+function refineScale(usable: readonly Peak[], identification: Identification, fit: ScaleFit): ScaleFit | null {
+  const byPosition = new Map(usable.map((p) => [p.positionPx, p]));
+  const points: CalibrationPoint[] = [];
+  for (const p of identification.peaks) {
+    const l = p.line;
+    if (!l || l.molecular || l.order !== undefined || l.blendedWithNm || p.blended || p.saturated || p.confidence < 0.9) continue;
+    const peak = byPosition.get(p.positionPx);
+    if (!peak) continue;
+    points.push({ positionPx: peak.positionPx, positionUncertaintyPx: peak.positionUncertaintyPx, wavelengthNm: l.wavelengthNm, source: 'matched' });
+  }
+  if (points.length < Math.max(MIN_SCALE_LINES, fit.linesUsed)) return null;
+  return fitScale(points);
+}
+
+/**
+ * The lines a lamp spec calibrates with: every atomic line of its elements in the camera's range (the curated list
+ * holds strong lines only; the matcher seeds on the brightest).
+ */
+function calibrationLines(lamp: string, lines: readonly SpectralLine[], camera: readonly [number, number]): SpectralLine[] {
+  const elements = new Set(lampElements(lamp));
+  return lines.filter(
+    (l) => elements.has(l.element) && (l as { kind?: string }).kind !== 'band-head' && l.wavelengthNm >= camera[0] && l.wavelengthNm <= camera[1],
+  );
+}
+
+function presentKey(identification: Identification): string {
+  return identification.species
+    .filter((x) => x.present)
+    .map((x) => x.element)
+    .sort()
+    .join('+');
+}
+
+function sameScale(a: Solution, wavelengths: Float64Array, rmsNm: number): boolean {
+  const tol = SELF_CALIBRATION_DEFAULTS.sameScaleRms * Math.max(a.fit.rmsNm, rmsNm, 0.05);
+  let compared = 0;
+  const [lo, hi] = a.fit.rangeNm;
+  for (let i = 0; i < wavelengths.length; i++) {
+    const w = a.wavelengths[i];
+    if (w < lo || w > hi) continue;
+    compared++;
+    if (Math.abs(w - wavelengths[i]) > tol) return false;
+  }
+  return compared > 0;
+}

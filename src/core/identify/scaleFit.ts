@@ -1,0 +1,88 @@
+import { fitDispersion, type CalibrationPoint, type DispersionFit, type FittedLine } from '../calibration/fitDispersion.js';
+import { dispersionAtNmPerPx, wavelengthAtNm } from '../calibration/model.js';
+import { fitPolynomial } from '../calibration/polynomialModel.js';
+import { InputError } from '../errors.js';
+
+/**
+ * A wavelength scale fitted to matched lines, in the calibration module's DispersionFit shape (so that a profile can
+ * be built from it), with which fit made it.
+ */
+export type ScaleFit = DispersionFit & {
+  /** The calibration module's fitDispersion (≥ `SMALL_SET` lines) or the small-set fit here. */
+  method: 'fitDispersion' | 'small-set';
+};
+
+/** Below this many lines the scale is fitted here (see fitScale). */
+export const SMALL_SET = 8;
+
+/**
+ * The scale through matched lines. From `SMALL_SET` lines on, the calibration module's fitDispersion (polynomial,
+ * degree by AICc up to 2, or 3 from 12 lines: a camera spectroscope's scale is nearly linear with a gentle
+ * curvature). With fewer, AICc is undefined for a quadratic and its outlier clipping can drop good lines of a real
+ * curvature, so the fit is a weighted least-squares quadratic (from 5 lines; linear below), weights from the centroid
+ * uncertainties on the linear scale's dispersion, with the next degree up or down as the extrapolation check.
+ */
+export function fitScale(points: readonly CalibrationPoint[]): ScaleFit | null {
+  if (points.length >= SMALL_SET) {
+    try {
+      return { ...fitDispersion(points, { model: 'polynomial', maxDegree: points.length >= 12 ? 3 : 2 }), method: 'fitDispersion' };
+    } catch (e) {
+      if (e instanceof InputError) return null;
+      throw e;
+    }
+  }
+  const distinct = new Set(points.map((p) => p.positionPx)).size;
+  if (distinct < 3) return null;
+  const linear = fitPolynomial(points.map((p) => ({ xPx: p.positionPx, wavelengthNm: p.wavelengthNm, weight: 1 })), 1);
+  if (!linear) return null;
+  const slope = Math.abs(linear.model.coefficientsNm[1] / linear.model.scalePx);
+  const weighted = points.map((p) => {
+    const sigmaPx = Math.max(Number.isFinite(p.positionUncertaintyPx) ? p.positionUncertaintyPx : 0.5, p.saturated ? 0.3 : 0.1);
+    return { xPx: p.positionPx, wavelengthNm: p.wavelengthNm, weight: 1 / (sigmaPx * slope) ** 2 };
+  });
+  const degree = points.length >= 5 ? 2 : 1;
+  const main = fitPolynomial(weighted, degree);
+  if (!main) return null;
+  const check = fitPolynomial(weighted, points.length >= degree + 3 ? degree + 1 : degree - 1);
+  const model = main.model;
+  const xs = points.map((p) => p.positionPx);
+  const rangePx: [number, number] = [Math.min(...xs), Math.max(...xs)];
+  const l0 = wavelengthAtNm(model, rangePx[0]);
+  const l1 = wavelengthAtNm(model, rangePx[1]);
+  const lines: FittedLine[] = points.map((p) => {
+    const fittedNm = wavelengthAtNm(model, p.positionPx);
+    const residualNm = p.wavelengthNm - fittedNm;
+    return {
+      positionPx: p.positionPx,
+      positionUncertaintyPx: p.positionUncertaintyPx,
+      wavelengthNm: p.wavelengthNm,
+      fittedNm,
+      residualNm,
+      residualPx: residualNm / (dispersionAtNmPerPx(model, p.positionPx) || slope),
+      used: true,
+      source: p.source,
+      label: p.label,
+      saturated: p.saturated ?? false,
+      peakIndex: p.peakIndex,
+    };
+  });
+  const rms = (values: number[]) => Math.sqrt(values.reduce((s, r) => s + r * r, 0) / values.length);
+  const dof = points.length - (degree + 1);
+  return {
+    model,
+    checkModel: check && check.model.degree >= 1 ? check.model : null,
+    rangePx,
+    rangeNm: [Math.min(l0, l1), Math.max(l0, l1)],
+    dispersionNmPerPx: dispersionAtNmPerPx(model, (rangePx[0] + rangePx[1]) / 2),
+    lines,
+    linesUsed: points.length,
+    rmsNm: rms(lines.map((l) => l.residualNm)),
+    rmsPx: rms(lines.map((l) => l.residualPx)),
+    birgeRatio: dof > 0 ? main.chi2 / dof : NaN,
+    dof,
+    criterion: 'aicc',
+    candidates: [{ kind: 'polynomial', degree, parameterCount: degree + 1, criterion: NaN, rmsNm: rms(lines.map((l) => l.residualNm)), lines: lines.length, chosen: true }],
+    warnings: [],
+    method: 'small-set',
+  };
+}

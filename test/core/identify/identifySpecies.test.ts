@@ -1,0 +1,183 @@
+import { describe, expect, it } from 'vitest';
+import { identifySpecies, NO_EMISSION_LINES, type CalibratedPeak } from '../../../src/core/identify/identifySpecies.js';
+import { createRandom } from '../../../src/core/random.js';
+import type { SpectralLine } from '../../../src/core/types.js';
+import { loadLineList } from '../../../src/io/lineList.js';
+import { peakAt, RANGE, synthesize } from './syntheticPeaks.js';
+
+const projectLines = loadLineList();
+const withBands = loadLineList({ includeBands: true });
+
+function presentSet(peaks: CalibratedPeak[], lines: readonly SpectralLine[] = projectLines): string[] {
+  return identifySpecies(peaks, { lines, rangeNm: RANGE }).species.filter((s) => s.present).map((s) => s.element).sort();
+}
+
+// Peaks drawn from NIST ASD (the outside reference), identified with the project's list; intensities ×3 per line.
+describe('identifySpecies(peaks, {lines, rangeNm}) on peaks drawn from NIST ASD', () => {
+  it('names the gas of single-gas tubes (top-1 ≥ 95 % over seeds)', () => {
+    const gases = ['Ne', 'Ar', 'He', 'Hg', 'Kr', 'Xe', 'H', 'Na'];
+    let right = 0;
+    let total = 0;
+    const misses: string[] = [];
+    for (const gas of gases) {
+      for (let seed = 1; seed <= 10; seed++) {
+        const peaks = synthesize([[gas, 1]], createRandom(seed * 97 + gas.charCodeAt(0)));
+        const top = identifySpecies(peaks, { lines: projectLines, rangeNm: RANGE }).species[0];
+        total++;
+        if (top.element === gas && top.present) right++;
+        else misses.push(`${gas}#${seed}→${top.element}`);
+      }
+    }
+    expect(right / total, misses.join(' ')).toBeGreaterThanOrEqual(0.95);
+  });
+
+  it('finds exactly the species of mixtures Ar+Hg, He+Ne, Ne+Ar, Ne+Hg, Ne+H (≥ 85 % over seeds)', () => {
+    const mixtures: Array<Array<[string, number]>> = [
+      [['Ar', 1], ['Hg', 0.6]],
+      [['He', 1], ['Ne', 0.5]],
+      [['Ne', 1], ['Ar', 0.4]],
+      [['Ne', 1], ['Hg', 0.4]],
+      [['Ne', 1], ['H', 0.3]],
+    ];
+    let right = 0;
+    let total = 0;
+    const misses: string[] = [];
+    for (const mix of mixtures) {
+      const want = mix.map(([e]) => e).sort();
+      for (let seed = 1; seed <= 10; seed++) {
+        const got = presentSet(synthesize(mix, createRandom(seed * 31 + want.join('').length)));
+        total++;
+        if (got.join('+') === want.join('+')) right++;
+        else misses.push(`${want.join('+')}#${seed}→${got.join('+')}`);
+      }
+    }
+    expect(right / total, misses.join(' ')).toBeGreaterThanOrEqual(0.85);
+  });
+
+  it('gives each species of a mixture its share of the line flux', () => {
+    // Hg at 0.4 of Ne's strongest line: Hg's visible lines carry ~15-35 % of the flux of such a spectrum.
+    let hgShare = 0;
+    const seeds = 10;
+    for (let seed = 1; seed <= seeds; seed++) {
+      const r = identifySpecies(synthesize([['Ne', 1], ['Hg', 0.4]], createRandom(seed)), { lines: projectLines, rangeNm: RANGE });
+      const ne = r.species.find((s) => s.element === 'Ne')!;
+      const hg = r.species.find((s) => s.element === 'Hg')!;
+      expect(ne.fluxFraction + hg.fluxFraction + r.unexplainedFluxFraction).toBeLessThanOrEqual(1 + 1e-9);
+      expect(ne.fluxFraction).toBeGreaterThan(hg.fluxFraction);
+      hgShare += hg.fluxFraction / seeds;
+    }
+    expect(hgShare).toBeGreaterThan(0.05);
+    expect(hgShare).toBeLessThan(0.45);
+  });
+
+  it('labels each matched peak with its line and lists the stray ones as unexplained', () => {
+    const peaks = synthesize([['Ne', 1]], createRandom(5));
+    const result = identifySpecies(peaks, { lines: projectLines, rangeNm: RANGE });
+    const labelled = result.peaks.filter((p) => p.line?.element === 'Ne');
+    expect(labelled.length).toBeGreaterThanOrEqual(10);
+    for (const p of labelled) expect(Math.abs(p.wavelengthNm - p.line!.wavelengthNm)).toBeLessThanOrEqual(1);
+    expect(result.unexplained.length).toBeGreaterThanOrEqual(1);
+    const ne = result.species.find((s) => s.element === 'Ne')!;
+    expect(ne.fluxFraction).toBeGreaterThan(0.8);
+    expect(ne.score).toBeGreaterThan(0.9);
+    expect(result.species[0].element).toBe('Ne');
+  });
+
+  it('judges nothing present for peaks at random wavelengths (≤ 2 of 40 tables)', () => {
+    const rng = createRandom(11);
+    let falseAlarms = 0;
+    for (let trial = 0; trial < 40; trial++) {
+      const peaks: CalibratedPeak[] = Array.from({ length: 4 + (trial % 12) }, () =>
+        peakAt(400 + 300 * rng.uniform(), trial % 2 ? 1 : Math.exp(4 * rng.uniform())),
+      );
+      if (identifySpecies(peaks, { lines: projectLines, rangeNm: RANGE }).species.some((s) => s.present)) falseAlarms++;
+    }
+    expect(falseAlarms).toBeLessThanOrEqual(2);
+  });
+});
+
+describe('identifySpecies: intensities only coarsely', () => {
+  it('names sodium from its D doublet alone, blended into one peak (588.995 / 589.592 nm, common practice, no source)', () => {
+    // Low-pressure sodium at camera resolution: one peak at the flux-weighted centre of D2 and D1, ~2 nm wide.
+    const peaks = [peakAt(589.19, 100, { fwhmNm: 2.2 }), peakAt(523.4, 0.5), peakAt(630.7, 0.4)];
+    const r = identifySpecies(peaks, { lines: projectLines, rangeNm: RANGE });
+    expect(r.species[0].element).toBe('Na');
+    expect(r.species[0].present).toBe(true);
+    expect(r.species[0].evidenceTerms.rank).toBeGreaterThan(0);
+    expect(r.peaks[0].line?.element).toBe('Na');
+    expect(r.unexplained.map((p) => p.wavelengthNm).sort()).toEqual([523.4, 630.7]);
+  });
+
+  it('needs the strong lines a weak line implies: one Ne line that is not among its strongest names nothing', () => {
+    // Ne I 533.078 nm is a modest Ne line; alone, the strong 585.249 / 640.225 nm lines are missing.
+    const r = identifySpecies([peakAt(533.08, 10), peakAt(470.0, 2), peakAt(612.2, 1)], { lines: projectLines, rangeNm: RANGE });
+    expect(r.species.find((s) => s.element === 'Ne')!.present).toBe(false);
+  });
+
+  it('is unmoved by a factor of 3 on every intensity (same present set with the areas perturbed)', () => {
+    const rng = createRandom(21);
+    let same = 0;
+    for (let seed = 1; seed <= 10; seed++) {
+      const peaks = synthesize([['Ar', 1], ['Hg', 0.6]], createRandom(seed + 100));
+      const perturbed = peaks.map((p) => ({ ...p, area: p.area * Math.exp((2 * rng.uniform() - 1) * Math.log(3)) }));
+      if (presentSet(peaks).join() === presentSet(perturbed).join()) same++;
+    }
+    expect(same).toBeGreaterThanOrEqual(9);
+  });
+});
+
+describe('identifySpecies: what else is in it', () => {
+  it('labels a second-order image of a bright line (mλ = d sin θ: order 2 of 435.833 nm sits at 871.666 nm)', () => {
+    // Hg I 404.656, 435.833, 546.074 nm (common practice, no source) and the grating equation (textbook).
+    const peaks = [peakAt(404.66, 30), peakAt(435.83, 100), peakAt(546.07, 80), peakAt(576.96, 12), peakAt(579.07, 14), peakAt(871.67, 5, { wavelengthUncertaintyNm: 0.16 })];
+    const r = identifySpecies(peaks, { lines: projectLines, rangeNm: [380, 900] });
+    const second = r.peaks.find((p) => Math.abs(p.wavelengthNm - 871.67) < 0.01)!;
+    expect(second.line?.element).toBe('Hg');
+    expect(second.line?.order).toBe(2);
+    expect(Math.abs(second.line!.wavelengthNm - 435.833)).toBeLessThanOrEqual(0.001);
+    expect(r.unexplained).toEqual([]);
+  });
+
+  it('offers nitrogen band heads as a molecular candidate, marked molecular', () => {
+    // N2 second-positive band heads 380.49, 375.54, 371.05, 357.69 nm and N2+ 391.44 nm (Pearse & Gaydon's tables,
+    // from memory); a band's peak at camera resolution sits a few tenths of a nm to the violet of its head.
+    const peaks = [380.1, 375.1, 370.7, 357.3, 391.0, 399.5, 405.5].map((w, k) => peakAt(w, [60, 40, 15, 70, 100, 20, 25][k], { fwhmNm: 2 }));
+    const r = identifySpecies(peaks, { lines: withBands, rangeNm: [350, 450] });
+    const n2 = r.species.find((s) => s.element === 'N2')!;
+    expect(n2.present).toBe(true);
+    expect(n2.molecular).toBe(true);
+    expect(r.peaks.filter((p) => p.line?.molecular).length).toBeGreaterThanOrEqual(5);
+  });
+
+  it('lists the strong peaks no species explains, brightest first, and warns when they carry much flux', () => {
+    const peaks = synthesize([['He', 1]], createRandom(3), { strays: 0 });
+    const top = Math.max(...peaks.map((p) => p.area));
+    peaks.push(peakAt(520.0, top * 0.5), peakAt(610.0, top * 0.3));
+    const r = identifySpecies(peaks, { lines: projectLines, rangeNm: RANGE });
+    expect(r.species[0].element).toBe('He');
+    expect(r.unexplained.slice(0, 2).map((p) => p.wavelengthNm)).toEqual([520.0, 610.0]);
+    expect(r.unexplainedFluxFraction).toBeGreaterThan(0.1);
+    expect(r.warnings.some((w) => /not explained/.test(w))).toBe(true);
+  });
+});
+
+describe('identifySpecies: no emission lines, no guess', () => {
+  it(`says "${NO_EMISSION_LINES}" for an empty peak table`, () => {
+    const r = identifySpecies([], { lines: projectLines, rangeNm: RANGE });
+    expect(r.emissionLinesFound).toBe(false);
+    expect(r.species.every((s) => !s.present && s.score === 0)).toBe(true);
+    expect(r.warnings[0]).toMatch(new RegExp(`^${NO_EMISSION_LINES}`));
+  });
+
+  it('says so for noise only (every peak below SNR 5) and for a continuum (only bumps broader than 12 nm)', () => {
+    const rng = createRandom(4);
+    const noise = Array.from({ length: 12 }, () => peakAt(400 + 300 * rng.uniform(), 0.01, { snr: 2 + 2 * rng.uniform() }));
+    const continuum = [peakAt(585.2, 40, { fwhmNm: 120, snr: 400 })];
+    for (const peaks of [noise, continuum]) {
+      const r = identifySpecies(peaks, { lines: projectLines, rangeNm: RANGE });
+      expect(r.emissionLinesFound).toBe(false);
+      expect(r.species.some((s) => s.present)).toBe(false);
+      expect(r.warnings.join(' ')).toMatch(/no emission lines found/);
+    }
+  });
+});
