@@ -76,6 +76,7 @@ export function parsePairs(text: string): ManualPair[] {
 
 /** What `glowprint calibrate --json` prints (before snake_case). */
 export interface CalibrateReport {
+  command: 'calibrate';
   input: { file: string; kind: 'photo' | 'csv'; widthPx?: number; heightPx?: number };
   lamp: string | null;
   lampLines: number;
@@ -141,6 +142,7 @@ export function calibrateReport(
   const conv = (l: number) => (context.vacuum ? airToVacuumNm(l) : l);
   const n = (l: number) => (context.vacuum ? airToVacuumNm(l) / l : 1);
   const report: CalibrateReport = {
+    command: 'calibrate',
     input: context.input,
     lamp: context.lamp,
     lampLines: context.lampLines,

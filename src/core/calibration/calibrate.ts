@@ -123,7 +123,9 @@ export function calibrateFromPeaks(
     const priors = g && (g.focalLengthPx || g.axisPositionPx) ? g : null;
     match = matchLines(peaks, usable, { grating: priors, ...o.match, pairs: o.pairs, snapPx: o.snapPx });
     warnings.push(...match.warnings);
-    if (!match.accepted) throw new InputError(match.message, 'lamp');
+    if (!match.accepted && o.pairs.length < 2) throw new InputError(match.message, 'lamp');
+  }
+  if (match && match.accepted) {
     points = match.matches.map((m) => {
       const peak = m.peakIndex >= 0 ? peaks[m.peakIndex] : undefined;
       const lampBlended = (m.line as { blended?: boolean } | undefined)?.blended === true;
@@ -131,7 +133,7 @@ export function calibrateFromPeaks(
         positionPx: m.positionPx,
         positionUncertaintyPx: peak ? peak.positionUncertaintyPx : m.positionUncertaintyPx,
         wavelengthNm: m.wavelengthNm,
-        referenceUncertaintyNm: m.line ? referenceUncertaintyNm(m.line, usable) : 0,
+        referenceUncertaintyNm: m.line ? referenceUncertaintyNm(m.line, usable!) : 0,
         source: m.source,
         label: m.line ? lineLabel(m.line) : `${m.wavelengthNm} nm (given)`,
         saturated: m.saturated,
@@ -141,6 +143,10 @@ export function calibrateFromPeaks(
     });
   } else {
     if (o.pairs.length === 0) throw new InputError('nothing to calibrate with: give --lamp, --pairs, or both', 'lamp');
+    if (match) {
+      warnings.push(`the lamp's lines add nothing beyond the given pairs (${match.message.replace(/; check --lamp or give --pairs$/, '')}): calibrated from the pairs alone`);
+      match = null;
+    }
     points = o.pairs.map((pair) => {
       let best = -1;
       for (let i = 0; i < peaks.length; i++) {

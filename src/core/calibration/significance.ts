@@ -5,10 +5,16 @@
  * the upper tail P(X ≥ m); a real solution matches far more lines than chance allows.
  */
 
+/** ln k! for k = 0 … (grown on demand; n stays small here). */
+const LOG_FACTORIAL: number[] = [0];
+
+function logFactorial(n: number): number {
+  for (let k = LOG_FACTORIAL.length; k <= n; k++) LOG_FACTORIAL.push(LOG_FACTORIAL[k - 1] + Math.log(k));
+  return LOG_FACTORIAL[n];
+}
+
 function logChoose(n: number, k: number): number {
-  let s = 0;
-  for (let i = 1; i <= k; i++) s += Math.log((n - k + i) / i);
-  return s;
+  return logFactorial(n) - logFactorial(k) - logFactorial(n - k);
 }
 
 /** log10 P(X ≥ m) for X ~ Binomial(n, p), summed in log space (n is at most a few hundred here). */

@@ -87,6 +87,11 @@ export function tripletSeeds(ctx: Ctx): { seeds: Pair[][]; tested: number } {
   const [dMin, dMax] = o.dispersionNmPerPx;
   const single = manual.length === 1 ? manual[0] : null;
   const hyps: Hypothesis[] = [];
+  // Hypotheses without local support are kept only up to the number of seeds (sparse spectra have no neighbours to
+  // support anything; dense ones have plenty of supported hypotheses): this keeps the list, its sort and the garbage
+  // small.
+  const unsupported: Hypothesis[] = [];
+  const nSeeds = Math.max(o.maxGrown * 4, 100);
   let tested = 0;
   const n = seedPeakIdx.length;
   for (let ii = 0; ii < n; ii++) {
@@ -153,13 +158,22 @@ export function tripletSeeds(ctx: Ctx): { seeds: Pair[][]; tested: number } {
             const p = Math.min(1, (2 * (tolSum / tried) * ad * count) / Math.max(whi - wlo, 1e-9));
             score = -log10BinomialTail(hit, tried, p);
           }
-          hyps.push({ score, i: seedPeakIdx[ii], j: seedPeakIdx[jj], k: seedPeakIdx[kk], a: seedLineIdx[fa], b: seedLineIdx[fb], c: seedLineIdx[fc] });
+          if (score <= 0 && unsupported.length >= nSeeds) continue;
+          (score > 0 ? hyps : unsupported).push({
+            score,
+            i: seedPeakIdx[ii],
+            j: seedPeakIdx[jj],
+            k: seedPeakIdx[kk],
+            a: seedLineIdx[fa],
+            b: seedLineIdx[fb],
+            c: seedLineIdx[fc],
+          });
         }
       }
     }
   }
   hyps.sort((u, v) => v.score - u.score);
-  const seeds = hyps.slice(0, Math.max(o.maxGrown * 4, 100)).map((h) => [
+  const seeds = [...hyps.slice(0, nSeeds), ...unsupported.slice(0, Math.max(0, nSeeds - hyps.length))].map((h) => [
     { peak: h.i, line: h.a, x: P[h.i].x, lambda: L[h.a].wavelengthNm, manual: false },
     { peak: h.j, line: h.b, x: P[h.j].x, lambda: L[h.b].wavelengthNm, manual: false },
     { peak: h.k, line: h.c, x: P[h.k].x, lambda: L[h.c].wavelengthNm, manual: false },
