@@ -7,9 +7,11 @@ import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { type BenchFigure, type BenchSection, passes } from './section.js';
+import { analysisSection } from './analysisBench.js';
+import { browserSection } from './browser.js';
 import { spectrumSection } from './spectrumBench.js';
 
-const SECTIONS: BenchSection[] = [spectrumSection];
+const SECTIONS: BenchSection[] = [spectrumSection, analysisSection, browserSection];
 
 function formatFigure(f: BenchFigure): string {
   const verdict = passes(f) ? 'PASS' : 'OVER TARGET';

@@ -7,6 +7,12 @@ import type { ResultSection } from '../core/report/sections/index.js';
 import { dataPath, packageVersion } from '../io/projectRoot.js';
 import { createSvgDocument } from '../io/svgDocument.js';
 import { writeFileAtomic } from '../io/writeAtomic.js';
+import { spectrumToJcampDx } from '../core/export/jcampDx.js';
+import type { InstrumentProfile } from '../core/calibration/profile.js';
+import { loadLineList } from '../io/lineList.js';
+import { readProfile } from '../io/profileFile.js';
+import { runCalibrate } from '../cli/calibrate.js';
+import { identificationJson, identifyFile } from '../cli/identify.js';
 import { runGrating } from './grating.js';
 import { runModes } from './modes.js';
 import { runPolarization } from './polarization.js';
@@ -169,7 +175,56 @@ function csvCell(v: string): string {
   return /[",\n]/.test(v) ? `"${v.replace(/"/g, '""')}"` : v;
 }
 
-/** Calibration on the fluorescent bulb and identification of each tube (filled in when those tasks exist). */
-function spectroscopeSteps(_demo: (...p: string[]) => string, _work: (...p: string[]) => string): DemoStep[] {
-  return [];
+/** Calibration on the fluorescent bulb, then each tube identified with that profile, its spectrum exported. */
+function spectroscopeSteps(demo: (...p: string[]) => string, work: (...p: string[]) => string): DemoStep[] {
+  const profileFile = work('rig-profile.json');
+  let profile: InstrumentProfile | undefined;
+  const tubes = ['tube-a', 'tube-b', 'tube-c', 'tube-d', 'tube-e'];
+  return [
+    {
+      name: 'calibration',
+      title: 'Rig calibration on the fluorescent bulb',
+      run: async () => {
+        const { report, profile: made } = await runCalibrate(demo('cfl-calibration.jpg'), {
+          lamp: 'fluorescent',
+          model: 'auto',
+          direction: 'either',
+          out: profileFile,
+        });
+        profile = made;
+        return { json: { command: 'calibrate', ...(report as unknown as Record<string, unknown>) }, warnings: [] };
+      },
+    },
+    ...tubes.map(
+      (tube): DemoStep => ({
+        name: tube,
+        title: `Tube ${tube.slice(-1).toUpperCase()}`,
+        run: async () => {
+          if (!profile) profile = await readProfile(profileFile);
+          const r = await identifyFile(demo(`${tube}.jpg`), { profile, lines: loadLineList() });
+          const extraFiles: Array<{ file: string; data: string }> = [];
+          const wl = r.sampleWavelengthNm;
+          if (wl) {
+            const rows = ['wavelength_nm,intensity,uncertainty'];
+            const v = r.spectrum.variance;
+            for (let i = 0; i < wl.length; i++) {
+              if (!Number.isFinite(wl[i]) || !Number.isFinite(r.spectrum.intensity[i])) continue;
+              rows.push(`${wl[i].toFixed(4)},${r.spectrum.intensity[i].toPrecision(6)},${v && Number.isFinite(v[i]) ? Math.sqrt(v[i]).toPrecision(3) : ''}`);
+            }
+            extraFiles.push({ file: `spectra/${tube}.csv`, data: rows.join('\n') + '\n' });
+            const keep = Array.from(wl.keys()).filter((i) => Number.isFinite(wl[i]) && Number.isFinite(r.spectrum.intensity[i]));
+            extraFiles.push({
+              file: `spectra/${tube}.jdx`,
+              data: spectrumToJcampDx(
+                keep.map((i) => wl[i]),
+                keep.map((i) => r.spectrum.intensity[i]),
+                { title: `${tube} (glowprint demo)`, owner: 'glowprint demo (synthetic data)', extra: [['$GLOWPRINT SOURCE', `${tube}.jpg`]] },
+              ),
+            });
+          }
+          return { json: { command: 'identify', ...identificationJson(r) }, warnings: [], extraFiles };
+        },
+      }),
+    ),
+  ];
 }
