@@ -8,6 +8,7 @@ import { registerModes } from './modes.js';
 import { registerReport } from './report.js';
 import { registerCalibrate } from './calibrate.js';
 import { registerIdentify } from './identify.js';
+import { registerWatch } from './watch.js';
 
 /** Every CLI command registers itself here; one file per command in this folder. */
 export const commands: Array<(program: Command) => void> = [
@@ -20,4 +21,5 @@ export const commands: Array<(program: Command) => void> = [
   registerReport,
   registerCalibrate,
   registerIdentify,
+  registerWatch,
 ];

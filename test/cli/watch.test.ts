@@ -1,9 +1,12 @@
-import { appendFileSync, existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, statSync, utimesSync, writeFileSync } from 'node:fs';
+import { spawn } from 'node:child_process';
+import { appendFileSync, copyFileSync, existsSync, mkdirSync, mkdtempSync, readFileSync, renameSync, rmSync, statSync, utimesSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
+import { Ajv2020 } from 'ajv/dist/2020.js';
 import { afterAll, describe, expect, it } from 'vitest';
 import { InputError } from '../../src/core/errors.js';
 import { readProcessed, watchFolder, WATCH_DEFAULTS } from '../../src/tasks/watch.js';
+import { ROOT, runCli } from '../helpers/runCli.js';
 
 const root = mkdtempSync(path.join(os.tmpdir(), 'glowprint-watch-'));
 afterAll(() => rmSync(root, { recursive: true, force: true }));
@@ -178,5 +181,82 @@ describe('watchFolder(options) — watching', () => {
 
   it('bad input: a folder that does not exist', async () => {
     await expect(watchFolder({ folder: path.join(root, 'nope'), process: recorder().process, once: true })).rejects.toThrow(/nope: not a folder/);
+  });
+});
+
+describe('glowprint watch', () => {
+  const DEMO = path.join(ROOT, 'data/demo');
+  const schema = new Ajv2020({ allErrors: true }).compile(JSON.parse(readFileSync(path.join(ROOT, 'data/schema/results/identify.schema.json'), 'utf8')));
+
+  it('--help names the options, the once-only rule and the cautions', () => {
+    const r = runCli(['watch', '--help']);
+    expect(r.status).toBe(0);
+    expect(r.stdout).toMatch(/--calibration <profile>/);
+    expect(r.stdout).toMatch(/--once/);
+    expect(r.stdout).toMatch(/processed once/);
+    expect(r.stdout).toMatch(/kilovolts/);
+  });
+
+  it('--once identifies each photo with the profile, logs schema-valid results, reports a broken photo, and skips them all next time', () => {
+    const dir = freshFolder();
+    const profile = path.join(root, 'rig.json');
+    const cal = runCli(['calibrate', path.join(DEMO, 'cfl-calibration.jpg'), '--lamp', 'fluorescent', '--out', profile]);
+    expect(cal.status, cal.stderr).toBe(0);
+    copyFileSync(path.join(DEMO, 'tube-a.jpg'), path.join(dir, 'tube-a.jpg'));
+    copyFileSync(path.join(DEMO, 'tube-e.jpg'), path.join(dir, 'tube-e.jpg'));
+    photo(dir, 'broken.jpg', 'not a photo at all', 5);
+    const r = runCli(['watch', dir, '--once', '--calibration', profile, '--settle', '0.2']);
+    expect(r.status, r.stderr).toBe(0);
+    const out = r.stdout.trim().split('\n');
+    expect(out).toHaveLength(3);
+    expect(out.some((l) => /broken\.jpg: failed — /.test(l))).toBe(true);
+    expect(out.some((l) => /tube-a\.jpg: Ne — /.test(l))).toBe(true);
+    expect(out.some((l) => /tube-e\.jpg: Ne \+ Hg — /.test(l))).toBe(true);
+    const log = logLines(path.join(dir, WATCH_DEFAULTS.logName));
+    const results = log.filter((l) => !l.error);
+    expect(results).toHaveLength(2);
+    for (const l of results) {
+      expect(schema(l), JSON.stringify(schema.errors)).toBe(true);
+      expect(l).toMatchObject({ command: 'identify', calibration: { from: 'profile' } });
+    }
+    const again = runCli(['watch', dir, '--once', '--calibration', profile, '--settle', '0.2']);
+    expect(again.status).toBe(0);
+    expect(again.stdout).toBe('');
+    expect(again.stderr).toMatch(/0 photo\(s\) processed, 0 failed, 3 already in/);
+    const report = runCli(['report', path.join(dir, WATCH_DEFAULTS.logName), '--out', path.join(dir, 'report')]);
+    expect(report.status, report.stderr).toBe(0);
+    expect(report.stdout).toMatch(/\(3 results;/);
+  });
+
+  it('keeps watching until Ctrl-C, then finishes the photo in hand, removes its lock and exits 0', async () => {
+    const dir = freshFolder();
+    const child = spawn(process.execPath, [path.join(ROOT, 'dist/src/cli/main.js'), 'watch', dir, '--settle', '0.3', '--poll', '0.2'], { stdio: ['ignore', 'pipe', 'pipe'] });
+    let stdout = '';
+    let stderr = '';
+    child.stdout.on('data', (d) => (stdout += d));
+    child.stderr.on('data', (d) => (stderr += d));
+    const exited = new Promise<number | null>((resolve) => child.on('exit', (code) => resolve(code)));
+    // Wait for the watch to start (its first note), then drop a photo in the way a sync client does: rename into place.
+    const until = async (test: () => boolean, ms: number): Promise<void> => {
+      const end = Date.now() + ms;
+      while (!test() && Date.now() < end) await new Promise((r) => setTimeout(r, 50));
+    };
+    await until(() => /watching/.test(stderr), 20_000);
+    copyFileSync(path.join(DEMO, 'tube-e.jpg'), path.join(dir, 'incoming.part'));
+    renameSync(path.join(dir, 'incoming.part'), path.join(dir, 'tube-e.jpg'));
+    await until(() => /tube-e\.jpg:/.test(stdout), 60_000);
+    child.kill('SIGINT');
+    expect(await exited).toBe(0);
+    expect(stdout).toMatch(/tube-e\.jpg: Ne/);
+    expect(stderr).toMatch(/1 photo\(s\) processed/);
+    expect(existsSync(path.join(dir, WATCH_DEFAULTS.logName + '.lock'))).toBe(false);
+    expect(logLines(path.join(dir, WATCH_DEFAULTS.logName))).toHaveLength(1);
+  });
+
+  it('bad input: a folder that is not there, one line, exit 1', () => {
+    const r = runCli(['watch', path.join(root, 'missing'), '--once']);
+    expect(r.status).toBe(1);
+    expect(r.stderr.trim().split('\n')).toHaveLength(1);
+    expect(r.stderr).toMatch(/missing: not a folder/);
   });
 });

@@ -155,6 +155,52 @@ describe('data/schema/results/*.schema.json', () => {
     });
   });
 
+  describe('calibrate', () => {
+    let out: Record<string, unknown>;
+    beforeAll(() => {
+      out = run(['calibrate', path.join(DEMO, 'cfl-calibration.jpg'), '--lamp', 'fluorescent', '--out', path.join(tmp, 'rig.json')]);
+    });
+    it('accepts glowprint calibrate --json on the demo lamp photo (grating model: lines_per_mm present)', () => {
+      expect(errorsOf('calibrate', out)).toBe('');
+      expect((out.model as { kind: string }).kind).toBe('grating');
+    });
+    it('rejects it without any key of issue 3', () => {
+      expectRequired('calibrate', out, ['rms_nm', 'dispersion_nm_per_px', 'range_nm', 'model', 'model.kind', 'lines', 'lines.0.position_px', 'lines.0.wavelength_nm', 'lines.0.residual_nm', 'lines.0.used', 'lines_per_mm', 'warnings']);
+    });
+  });
+
+  describe('identify', () => {
+    it('accepts glowprint identify --json with a profile and self-calibrated, single and batch, and rejects it without any key of issue 4', () => {
+      const profile = path.join(tmp, 'rig-id.json');
+      run(['calibrate', path.join(DEMO, 'cfl-calibration.jpg'), '--lamp', 'fluorescent', '--out', profile]);
+      const withProfile = run(['identify', path.join(DEMO, 'tube-e.jpg'), '--calibration', profile]);
+      expect(errorsOf('identify', withProfile)).toBe('');
+      expect((withProfile.calibration as { from: string }).from).toBe('profile');
+      const batch = run(['identify', path.join(DEMO, 'tube-b.jpg'), path.join(DEMO, 'tube-d.jpg')]) as { results: unknown[] };
+      expect(batch.results).toHaveLength(2);
+      for (const r of batch.results) expect(errorsOf('identify', r)).toBe('');
+      const self = batch.results[0] as { calibration: { from: string } };
+      expect(self.calibration.from).toBe('self');
+      expectRequired('identify', withProfile, [
+        'species',
+        'species.0.element',
+        'species.0.score',
+        'species.0.present',
+        'species.0.lines_matched',
+        'species.0.flux_fraction',
+        'peaks',
+        'peaks.0.position_px',
+        'peaks.0.wavelength_nm',
+        'peaks.0.wavelength_uncertainty_nm',
+        'peaks.0.line',
+        'calibration',
+        'calibration.from',
+        'calibration.rms_nm',
+        'warnings',
+      ]);
+    });
+  });
+
   it('reject a result whose "command" names another command', () => {
     const out = run(['grating', '--wavelength', '632.816', '--distance', '1000', '--positions', '-1:-410.2,1:410.4']);
     expect(errorsOf('grating', { ...out, command: 'grating' })).toBe('');
