@@ -113,6 +113,16 @@ describe('identificationSection(json, {document})', () => {
     expect(section.svgs).toEqual([]);
   });
 
+  it('says why nothing is identified when the spectrum found no wavelength scale (calibration null)', () => {
+    const json = { file: 'tube-d.jpg', emission_lines_found: true, calibration: null, species: [], peaks: [], unexplained: [], unexplained_flux_fraction: 1, warnings: [] };
+    expect(validate(json)).toBe(true);
+    const { section, summary } = identificationSection(json, { document });
+    expect(section.verdict).toMatch(/^Not identified: no wavelength scale/);
+    expect(summary).toMatchObject({ result: 'not identified', keyFigure: 'no wavelength scale' });
+    expect(section.tables).toEqual([]);
+    expect(section.figures!.some(([k]) => k === 'Unexplained peaks')).toBe(false);
+  });
+
   it('bad input: a species without a score names it', () => {
     const json = neonWithMercury();
     delete json.species[1].score;
