@@ -16,6 +16,7 @@ export function registerGrating(program: Command): void {
     .option('--separations <list>', 'distances between the +m and −m spots as m:separation, e.g. "1:820.6,2:2334"')
     .option('--position-uncertainty <value>', `standard uncertainty of each spot (mm; default ${FIT_SCREEN_DEFAULTS.positionUncertaintyMm})`)
     .option('--angles <list>', 'goniometer angles as order:angle in degrees, e.g. "1:22.3,2:49.4"')
+    .option('--profile <file>', 'photo method: the line density from an instrument profile made by glowprint calibrate --model grating')
     .option('--table <file>', 'read the measurements from a CSV file: an "order" column and "position_mm", "separation_mm" or "angle_deg" (optional "uncertainty_mm"/"uncertainty_deg")')
     .option('--angle-uncertainty <value>', `standard uncertainty of each angle (deg; default ${FIT_ANGLES_DEFAULTS.angleUncertaintyDeg})`)
     .option('--angle-reference <ref>', 'angles measured from the "undeviated" beam or from the grating "normal"', GRATING_OPTION_DEFAULTS.angleReference)

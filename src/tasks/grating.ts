@@ -18,6 +18,8 @@ import { InputError, UsageError } from '../core/errors.js';
 import { LASER_CAUTION } from '../core/safety.js';
 import { parseNumericCsv } from '../core/table/parseNumericCsv.js';
 import { parseQuantity } from '../core/units/quantity.js';
+import { lineDensityFromProfile, type ProfileLineDensitySource } from '../core/grating/index.js';
+import { readProfile } from '../io/profileFile.js';
 
 function usage(message: string): never {
   throw new UsageError(message);
@@ -39,6 +41,8 @@ export interface GratingOptions {
   nominal?: string;
   tolerance: string;
   beamWidth?: string;
+  /** Photo method: an instrument profile made with the physical grating model. */
+  profile?: string;
   json?: boolean;
 }
 
@@ -50,6 +54,12 @@ export async function runGrating(opts: GratingOptions): Promise<{ json: Record<s
         let positions: OrderValue[] | undefined;
         let separations: OrderValue[] | undefined;
         let angleList: OrderValue[] | undefined;
+        if (opts.profile !== undefined) {
+          if (opts.table !== undefined || opts.positions !== undefined || opts.separations !== undefined || opts.angles !== undefined) {
+            usage('--profile is a method of its own: give it without --table, --positions, --separations or --angles');
+          }
+          return gratingFromProfile(opts);
+        }
         if (opts.table !== undefined) {
           if (opts.positions !== undefined || opts.separations !== undefined || opts.angles !== undefined) {
             usage('give the measurements either in --table or on the command line, not both');
@@ -101,34 +111,8 @@ export async function runGrating(opts: GratingOptions): Promise<{ json: Record<s
             incidenceDeg,
           });
         }
-        let verdict: GratingVerdict | null = null;
-        if (opts.nominal !== undefined) {
-          const nominal = Number(opts.nominal.replace(/\s*(lines?\/mm|l\/mm|\/mm)$/, ''));
-          if (!(nominal > 0) || !Number.isFinite(nominal)) throw new InputError(`--nominal: expected a line density in lines/mm such as 600, got ${JSON.stringify(opts.nominal)}`, '--nominal');
-          verdict = gratingVerdict({
-            linesPerMm: measurement.linesPerMm,
-            linesPerMmUncertainty: measurement.linesPerMmUncertainty,
-            nominalLinesPerMm: nominal,
-            tolerance: parseTolerance(opts.tolerance),
-          });
-        }
-        const derived = derivedFigures({
-          linesPerMm: measurement.linesPerMm,
-          linesPerMmUncertainty: measurement.linesPerMmUncertainty,
-          wavelengthNm,
-          incidenceDeg: 0,
-          illuminatedWidthMm: optionalQuantity(opts.beamWidth, '--beam-width', 'mm', true),
-          distanceMm,
-        });
-        const json = {
-          command: 'grating',
-          ...measurement,
-          verdict: verdict?.verdict ?? null,
-          verdictDetail: verdict,
-          derived,
-          warnings: measurement.warnings,
-        };
-        return { json, text: formatText(measurement, verdict, derived), warnings: [] };
+        return finish(measurement, opts, wavelengthNm, distanceMm);
+
 }
 
 function optionalQuantity(text: string | undefined, name: string, unit: string, positive = false): number | undefined {
@@ -172,4 +156,51 @@ function formatText(m: GratingMeasurement, v: GratingVerdict | null, d: DerivedF
   }
   for (const w of m.warnings) lines.push(`warning: ${w}`);
   return lines.join('\n') + '\n';
+}
+
+/** Photo method: the line density the physical grating model fitted when the rig was calibrated. */
+async function gratingFromProfile(opts: GratingOptions): Promise<{ json: Record<string, unknown>; text: string; warnings: string[] }> {
+  const profile = await readProfile(opts.profile!);
+  const measurement = lineDensityFromProfile(profile as unknown as ProfileLineDensitySource, opts.profile);
+  const wavelengthNm = opts.wavelength !== undefined ? parseQuantity(opts.wavelength, { name: '--wavelength', unit: 'nm', positive: true }) : 632.816;
+  if (opts.wavelength === undefined) measurement.warnings.push('derived figures (orders, dispersion) at 632.816 nm; give --wavelength for another');
+  if (!Number.isFinite(measurement.wavelengthNm)) measurement.wavelengthNm = wavelengthNm;
+  return finish(measurement, opts, wavelengthNm, undefined);
+}
+
+/** Verdict against the nominal, derived figures, and the outputs: the same for every method. */
+function finish(
+  measurement: GratingMeasurement,
+  opts: GratingOptions,
+  wavelengthNm: number,
+  distanceMm: number | undefined,
+): { json: Record<string, unknown>; text: string; warnings: string[] } {
+        let verdict: GratingVerdict | null = null;
+  if (opts.nominal !== undefined) {
+    const nominal = Number(opts.nominal.replace(/\s*(lines?\/mm|l\/mm|\/mm)$/, ''));
+    if (!(nominal > 0) || !Number.isFinite(nominal)) throw new InputError(`--nominal: expected a line density in lines/mm such as 600, got ${JSON.stringify(opts.nominal)}`, '--nominal');
+    verdict = gratingVerdict({
+      linesPerMm: measurement.linesPerMm,
+      linesPerMmUncertainty: measurement.linesPerMmUncertainty,
+      nominalLinesPerMm: nominal,
+      tolerance: parseTolerance(opts.tolerance),
+    });
+  }
+  const derived = derivedFigures({
+    linesPerMm: measurement.linesPerMm,
+    linesPerMmUncertainty: measurement.linesPerMmUncertainty,
+    wavelengthNm,
+    incidenceDeg: 0,
+    illuminatedWidthMm: optionalQuantity(opts.beamWidth, '--beam-width', 'mm', true),
+    distanceMm,
+  });
+  const json = {
+    command: 'grating',
+    ...measurement,
+    verdict: verdict?.verdict ?? null,
+    verdictDetail: verdict,
+    derived,
+    warnings: measurement.warnings,
+  };
+  return { json, text: formatText(measurement, verdict, derived), warnings: [] };
 }

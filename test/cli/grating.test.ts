@@ -77,3 +77,23 @@ describe('glowprint grating', () => {
     expect(runCli(['grating', '--wavelength', '632.816']).status).toBe(2);
   });
 });
+
+describe('glowprint grating --profile (photo method)', () => {
+  it('reports the line density a grating-model calibration fitted, with its uncertainty, against the nominal', async () => {
+    const { mkdtempSync } = await import('node:fs');
+    const { tmpdir } = await import('node:os');
+    const pathMod = (await import('node:path')).default;
+    const dir = mkdtempSync(pathMod.join(tmpdir(), 'gp-grating-profile-'));
+    const profile = pathMod.join(dir, 'rig.json');
+    const cal = runCli(['calibrate', 'data/demo/cfl-calibration.jpg', '--lamp', 'fluorescent', '--model', 'grating', '--out', profile]);
+    expect(cal.status, cal.stderr).toBe(0);
+    const r = runCli(['grating', '--profile', profile, '--nominal', '1000', '--tolerance', '5%', '--json']);
+    expect(r.status, r.stderr).toBe(0);
+    const j = JSON.parse(r.stdout);
+    // The demo rig's grating has 1000 lines/mm (data/demo/truth.json).
+    expect(Math.abs(j.lines_per_mm - 1000)).toBeLessThanOrEqual(3 * j.lines_per_mm_uncertainty);
+    expect(j.lines_per_mm_uncertainty).toBeGreaterThan(0);
+    expect(j.verdict).toBe('within');
+    expect(runCli(['grating', '--profile', profile, '--angles', '1:22.3', '--wavelength', '632.8']).status).toBe(2);
+  });
+});
