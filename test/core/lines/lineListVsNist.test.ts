@@ -71,9 +71,8 @@ const NOT_IN_REFERENCE: Record<string, string> = {
  * near-infrared 5s–5p lines highest, as a camera sees a krypton tube; the ASD scale (photographic, violet-sensitive
  * plates) ranks the violet lines highest. To be re-entered from the Handbook table.
  */
-const INTENSITY_ORDER_EXEMPT: Record<string, string> = {
-  'Kr I': 'intensities from memory on a discharge/camera scale, not the ASD photographic scale (Spearman ρ ≈ 0.1)',
-};
+// Spectra whose intensities are knowingly on another scale than the ASD's (none now: Kr I was re-entered).
+const INTENSITY_ORDER_EXEMPT: Record<string, string> = {};
 
 /** Spearman rank correlation with mid-ranks for ties. */
 function spearman(pairs: Array<[number, number]>): number {
