@@ -52,7 +52,11 @@ export async function runDemo(options: DemoOptions = {}): Promise<DemoOutcome> {
     const rel = path.relative(process.cwd(), full);
     return rel.startsWith('..') || path.isAbsolute(rel) ? full : rel;
   };
-  const work = (...p: string[]): string => path.join(outDir, ...p);
+  const work = (...p: string[]): string => {
+    const full = path.join(outDir, ...p);
+    const rel = path.relative(process.cwd(), full);
+    return rel.startsWith('..') || path.isAbsolute(rel) ? full : rel;
+  };
   await fs.mkdir(work('results'), { recursive: true });
   const analyser = work('analyser-a.json');
   const pol = (...p: string[]): string => demo('polarization', ...p);
