@@ -4,10 +4,11 @@ import { COLOUR_PRIOR_DEFAULTS, colourBandNm, type ColourPriorOptions } from './
 import { fitGrating, type GratingFitOptions } from './gratingModel.js';
 import { type Ctx, lineSigmaNm, nearest, type Pair, type PeakItem, prepareLines, sigmaOf, strength } from './match/context.js';
 import { growSolution, type GrownSolution, refineSolution } from './match/growSolution.js';
-import { fitPairsParsimonious } from './match/quickFit.js';
+import { fitPairs, fitPairsParsimonious, residualPx } from './match/quickFit.js';
 import { countTrialsLog10, type MatchScore, scoreSolution } from './match/scoreSolution.js';
 import { tripletSeeds } from './match/tripletSeeds.js';
 import { dispersionAtNmPerPx, wavelengthAtNm, type DispersionModel } from './model.js';
+import { modelSigmaNm } from './uncertainty.js';
 import type { WeightedPoint } from './polynomialModel.js';
 
 export type { MatchScore } from './match/scoreSolution.js';
@@ -122,6 +123,10 @@ interface Solution extends GrownSolution {
 
 /** The search stops once a solution's chance probability falls below 10^this (before the trials factor). */
 const STOP_LOG10_CHANCE = -15;
+/** A pair the physical model puts more than this many standard deviations off is vetoed. */
+const VETO_SIGMA = 5;
+/** A core of pairs counts as consistent with the physical model up to this χ²/dof. */
+const CORE_MAX_REDUCED_CHI2 = 4;
 /** Solutions rescored with the physical model, best first. */
 const GRATING_RESCORED = 3;
 
@@ -237,14 +242,37 @@ export function matchLines(
   }
   const byScore = (a: Solution, b: Solution) => a.score.log10Chance - b.score.log10Chance || b.score.matched - a.score.matched;
   solutions.sort(byScore);
+  const log10Trials = countTrialsLog10(ctx);
   if (o.grating) {
+    // The physics is the stronger constraint: a solution refitted with the grating model replaces the polynomial one
+    // when it scores better, and also whenever it is itself significant — a flexible polynomial can bend to take a
+    // line one off at the end of a long extrapolation, the physical model cannot.
+    const significant = (s: Solution) => s.score.log10Chance + log10Trials <= Math.log10(o.maxFalseMatchProbability);
     for (let i = 0; i < Math.min(GRATING_RESCORED, solutions.length); i++) {
-      const g = withGratingModel(ctx, solutions[i], o.grating);
-      if (g && g.score.log10Chance < solutions[i].score.log10Chance) solutions[i] = g;
+      // Two starts: all the pairs, and the densest stretch of them (whose model also judges the veto).
+      const gAll = withGratingModel(ctx, solutions[i], o.grating, 'all');
+      const gDense = withGratingModel(ctx, solutions[i], o.grating, 'densest');
+      const g = gAll && gDense ? (gAll.score.log10Chance <= gDense.score.log10Chance ? gAll : gDense) : (gAll ?? gDense);
+      if (!g) continue;
+      const veto = gDense ? gDense.vetoed : [];
+      if (g.score.log10Chance < solutions[i].score.log10Chance || significant(g)) {
+        solutions[i] = g;
+      } else if (veto.length) {
+        // The polynomial solution keeps only the pairs the physics allows, and is scored on them.
+        const kept = solutions[i].pairs.filter((q) => !veto.includes(q));
+        const model = kept.length >= 2 ? fitPairs(ctx, kept) : null;
+        const refined = model ? refineSolution(ctx, model, kept, solutions[i].window, (set) => fitPairs(ctx, set)) : null;
+        const cleaned = refined?.pairs.filter((q) => !veto.some((v) => v.peak === q.peak && v.line === q.line));
+        if (refined && cleaned && cleaned.length >= 2) {
+          const sol = { ...refined, pairs: cleaned };
+          solutions[i] = { ...sol, score: scoreSolution(ctx, sol, parametersOf(ctx, cleaned)) };
+        } else {
+          solutions[i] = { ...solutions[i], score: { ...solutions[i].score, log10Chance: 0 } };
+        }
+      }
     }
     solutions.sort(byScore);
   }
-  const log10Trials = countTrialsLog10(ctx);
   for (const sol of solutions) {
     sol.score.log10Trials = log10Trials;
     sol.score.falseMatchProbability = Math.min(1, 10 ** (sol.score.log10Chance + log10Trials));
@@ -312,29 +340,95 @@ function explains(s: Solution, q: Pair): boolean {
  * The solution refitted, re-matched and rescored with the physical grating model under the given priors; its
  * parameter count is the fit's effective one (priors pin x0 and f), at least 2. Null when the model does not fit.
  */
-function withGratingModel(ctx: Ctx, sol: Solution, priors: Partial<GratingFitOptions>): Solution | null {
+function withGratingModel(
+  ctx: Ctx,
+  sol: Solution,
+  priors: Partial<GratingFitOptions>,
+  start: 'all' | 'densest',
+): (Solution & { vetoed: Pair[] }) | null {
   let effective = 4;
-  const fit = (pairs: Pair[], reference: DispersionModel): DispersionModel | null => {
-    const points: WeightedPoint[] = pairs.map((q) => {
-      const d = dispersionAtNmPerPx(reference, q.x);
-      return { xPx: q.x, wavelengthNm: q.lambda, weight: 1 / ((sigmaOf(ctx, q) * d) ** 2 + lineSigmaNm(ctx, q) ** 2) };
-    });
+  let chi2 = 0;
+  const weightOf = (q: Pair, reference: DispersionModel) =>
+    1 / ((sigmaOf(ctx, q) * dispersionAtNmPerPx(reference, q.x)) ** 2 + lineSigmaNm(ctx, q) ** 2);
+  const fit = (pairs: Pair[], reference: DispersionModel, equal = false): DispersionModel | null => {
+    // Equal weights (in px) for finding the core: a few precise lines taken one off would otherwise mask themselves
+    // by pulling the fit onto them.
+    const points: WeightedPoint[] = pairs.map((q) => ({
+      xPx: q.x,
+      wavelengthNm: q.lambda,
+      weight: equal ? 1 / dispersionAtNmPerPx(reference, q.x) ** 2 : weightOf(q, reference),
+    }));
     const g = fitGrating(points, priors);
     if (!g) return null;
     effective = g.effectiveParameters;
+    chi2 = g.chi2;
     return g.model;
   };
-  const start = fit(sol.pairs, sol.model);
-  if (!start) return null;
-  let reference: DispersionModel = start;
-  const refined = refineSolution(ctx, start, sol.pairs, sol.window, (set) => {
+  // A consistent core first: while the physical model cannot fit the pairs (χ²/dof > CORE_MAX_REDUCED_CHI2), the
+  // worst of them in equal weights goes. The refinement then matches afresh from that core over the whole band, the
+  // physics doing the extrapolating. (Far-out pairs taken one off by a bending polynomial have the leverage to hide
+  // from this; the veto below catches them.)
+  let core = start === 'all' ? sol.pairs : densestStretch(sol.pairs);
+  let model0 = fit(core, sol.model);
+  while (model0 && core.length > 4) {
+    const dof = core.length - effective;
+    if (dof <= 0 || chi2 / dof <= CORE_MAX_REDUCED_CHI2) break;
+    const even = fit(core, model0, true);
+    if (!even) break;
+    let worst = -1;
+    let worstPx = 0;
+    core.forEach((q, i) => {
+      if (q.manual) return;
+      const r = Math.abs(residualPx(even, q));
+      if (r > worstPx) {
+        worstPx = r;
+        worst = i;
+      }
+    });
+    if (worst < 0) break;
+    core = core.filter((_, i) => i !== worst);
+    model0 = fit(core, model0);
+  }
+  if (!model0) return null;
+  let reference: DispersionModel = model0;
+  const refined = refineSolution(ctx, model0, core, sol.window, (set) => {
     const m = fit(set, reference);
     if (m) reference = m;
     return m;
   });
   if (!refined) return null;
   const score = scoreSolution(ctx, refined, Math.max(2, Math.round(effective)));
-  return { ...refined, score };
+  // Pairs of the original solution that the physical model rules out: more than VETO_SIGMA standard deviations
+  // (the pair's own and the model's at that position) from it.
+  const model = refined.model;
+  const vetoed = sol.pairs.filter((q) => {
+    if (q.manual) return false;
+    const sigma = Math.sqrt(1 / weightOf(q, model) + modelSigmaNm(model, q.x) ** 2);
+    return Math.abs(q.lambda - wavelengthAtNm(model, q.x)) > VETO_SIGMA * Math.max(sigma, refined.tolerancePx * Math.abs(dispersionAtNmPerPx(model, q.x)));
+  });
+  return { ...refined, score, vetoed };
+}
+
+/**
+ * The densest stretch of a solution: the most pairs within half its span (all of them when that leaves fewer than
+ * four). A polynomial can bend to take lines one off at the end of a long extrapolation; started from here, the
+ * physical model extrapolates them itself.
+ */
+function densestStretch(pairs: readonly Pair[]): Pair[] {
+  const sorted = [...pairs].sort((p, q) => p.x - q.x);
+  const halfSpan = 0.5 * (sorted[sorted.length - 1].x - sorted[0].x);
+  let best: Pair[] = sorted;
+  let bestCount = 0;
+  for (let i = 0; i < sorted.length; i++) {
+    let k = i;
+    while (k + 1 < sorted.length && sorted[k + 1].x - sorted[i].x <= halfSpan) k++;
+    if (k - i + 1 > bestCount) {
+      bestCount = k - i + 1;
+      best = sorted.slice(i, k + 1);
+    }
+  }
+  if (best.length < 4) return sorted;
+  return [...best, ...sorted.filter((q) => q.manual && !best.includes(q))];
 }
 
 function formatProbability(p: number): string {
