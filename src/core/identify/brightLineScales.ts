@@ -32,7 +32,7 @@ export interface BrightLineOptions {
   /** A peak matches a line within this many px of the hypothesis' position (at least `minToleranceNm`). @default 2 */
   tolerancePx?: number;
   minToleranceNm?: number;
-  /** Hypotheses kept per element. @default 3 */
+  /** Hypotheses kept per element. @default 2 */
   keep?: number;
   /** Fewest matched lines a kept hypothesis needs (the two seeds included). @default 4 */
   minMatches?: number;
@@ -45,7 +45,7 @@ export const BRIGHT_LINE_DEFAULTS = {
   visibleEdgeNm: 700,
   tolerancePx: 2,
   minToleranceNm: 0.5,
-  keep: 3,
+  keep: 2,
   minMatches: 4,
 } as const;
 

@@ -1,7 +1,7 @@
 import type { CalibrationPoint } from '../calibration/fitDispersion.js';
 import { fitScale, type ScaleFit } from './scaleFit.js';
 import { matchLines, type MatchLinesOptions } from '../calibration/matchLines.js';
-import { wavelengthAtNm } from '../calibration/model.js';
+import { dispersionAtNmPerPx, wavelengthAtNm } from '../calibration/model.js';
 import type { CalibrationScale } from '../calibration/uncertainty.js';
 import { invalid } from '../errors.js';
 import type { Peak, SpectralLine } from '../types.js';
@@ -28,6 +28,8 @@ export interface SelfCalibrationOptions extends Omit<IdentifyOptions, 'rangeNm' 
 
 export const SELF_CALIBRATION_DEFAULTS = {
   lamps: SELF_CALIBRATION_LAMPS,
+  /** Matcher options for self-calibration (its defaults: fewer seeds or hypotheses lose lamps such as Ar+Hg). */
+  match: {} as Partial<MatchLinesOptions>,
   cameraRangeNm: [350, 1000] as readonly [number, number],
   /** Two scales are one when they put every peak within this many RMS of each other. */
   sameScaleRms: 3,
@@ -161,7 +163,7 @@ export function identifySelfCalibrated(peaks: readonly Peak[], options: SelfCali
     for (const e of lampElements(s.lamp)) evidencePenalty[e] = (penalty * (count.get(e) ?? 0)) / Math.max(s.lines.length, 1);
     const first = identifyOnScale(usable, s.fit, extent, camera, base, evidencePenalty);
     let best = { fit: s.fit, refined: false, ...first };
-    const refit = refineScale(usable, first.identification, s.fit);
+    const refit = first.identification.species.some((x) => x.present) ? refineScale(usable, first.identification, s.fit) : null;
     if (refit) {
       const second = identifyOnScale(usable, refit, extent, camera, base, evidencePenalty);
       if (second.identification.modelEvidence > first.identification.modelEvidence) best = { fit: refit, refined: true, ...second };
@@ -262,7 +264,7 @@ function candidateScales(
   for (const lamp of lamps) {
     const lines = calibrationLines(lamp, options.lines, camera);
     if (lines.length < MIN_SCALE_LINES) continue;
-    const match = matchLines(usable, lines, { wavelengthRangeNm: [camera[0], camera[1]], ...options.match });
+    const match = matchLines(usable, lines, { wavelengthRangeNm: [camera[0], camera[1]], ...SELF_CALIBRATION_DEFAULTS.match, ...options.match });
     if (!match.score || !match.model) continue;
     const matched = match.matches.filter((m) => m.source === 'matched');
     if (matched.length < MIN_SCALE_LINES) continue;
@@ -340,10 +342,19 @@ function identifyOnScale(
   evidencePenalty: Record<string, number>,
 ): { identification: Identification; covered: [number, number] } {
   const scale: CalibrationScale = { model: fit.model, rangePx: fit.rangePx, checkModel: fit.checkModel };
+  // The covered range: the spectrum's ends on the scale where the scale is monotonic out there, else (a polynomial
+  // turning over far beyond its lines) the calibrated peaks' own span; within what a camera sees.
+  const calibrated = calibratePeaks(usable, scale);
   const lo = wavelengthAtNm(fit.model, extent[0]);
   const hi = wavelengthAtNm(fit.model, extent[1]);
-  const covered: [number, number] = [Math.max(camera[0], Math.min(lo, hi)), Math.min(camera[1], Math.max(lo, hi))];
-  const identification = identifySpecies(calibratePeaks(usable, scale), {
+  const monotonic = [extent[0], extent[1]].every((x) => Math.sign(dispersionAtNmPerPx(fit.model, x)) === Math.sign(fit.dispersionNmPerPx));
+  let span: [number, number] = [Math.min(lo, hi), Math.max(lo, hi)];
+  if (!monotonic && calibrated.length > 0) {
+    const ws = calibrated.map((p) => p.wavelengthNm);
+    span = [Math.min(...ws) - 5, Math.max(...ws) + 5];
+  }
+  const covered: [number, number] = [Math.max(camera[0], span[0]), Math.min(camera[1], span[1])];
+  const identification = identifySpecies(calibrated, {
     ...base,
     rangeNm: covered[1] > covered[0] ? covered : [camera[0], camera[1]],
     systematicNm: Math.max(fit.rmsNm, IDENTIFY_DEFAULTS.systematicNm),

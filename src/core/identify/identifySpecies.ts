@@ -37,9 +37,11 @@ export interface IdentifyOptions extends Omit<TemplateOptions, 'rangeNm' | 'reso
   /**
    * Where the camera is known to see lines: absent lines are predicted only here. A camera's sensitivity beyond its
    * outermost detected lines is unknown (infrared-cut filters, falling blue response), so by default this is the span
-   * of the line-like peaks widened by 3 resolution elements, within `rangeNm`.
+   * of the line-like peaks widened by 3 resolution elements, and at least `surelySeenNm`, within `rangeNm`.
    */
   sensitiveRangeNm?: readonly [number, number];
+  /** What any colour camera sees (common practice, no source). @default [420, 680] */
+  surelySeenNm?: readonly [number, number];
   /** Calibration uncertainty (e.g. its RMS, nm) added in quadrature to each peak's own. @default 0.15 */
   systematicNm?: number;
   /** Instrument line width (FWHM, nm) for merging close lines. @default the median fwhmNm of the peaks, else 1 */
@@ -85,6 +87,7 @@ export const IDENTIFY_DEFAULTS = {
   brightestMargin: 1.1,
   /** Species enter the stepwise selection this much below `presentEvidence` (nats). */
   entryMargin: 2,
+  surelySeenNm: [420, 680] as readonly [number, number],
 } as const;
 
 export interface MatchedLine {
@@ -238,7 +241,7 @@ export function identifySpecies(peaks: readonly CalibratedPeak[], options: Ident
               0.25 * (q.fwhmNm ?? resolutionNm),
       ),
   );
-  const sensitiveRangeNm = sensitiveRange(options.sensitiveRangeNm, firstOrder, rangeNm, resolutionNm);
+  const sensitiveRangeNm = sensitiveRange(options.sensitiveRangeNm, firstOrder, rangeNm, resolutionNm, o.surelySeenNm);
   const settings = { rangeNm, sensitiveRangeNm, systematicNm: o.systematicNm, resolutionNm, detectionLimitArea, presentEvidence: o.presentEvidence };
 
   const templates = buildSpeciesTemplates(options.lines, {
@@ -293,7 +296,7 @@ export function identifySpecies(peaks: readonly CalibratedPeak[], options: Ident
       f = fitMixture(
         [...set].sort((a, b) => a - b).map((s) => tables[s].ratio),
         n,
-        { iterations: 500, tolerance: 1e-6, classes, classCount: FLUX_CLASS_EDGES.length + 1 },
+        { iterations: 200, tolerance: 1e-5, classes, classCount: FLUX_CLASS_EDGES.length + 1 },
       );
       fitCache.set(key, f);
     }
@@ -588,11 +591,12 @@ function sensitiveRange(
   lineLike: readonly CalibratedPeak[],
   rangeNm: [number, number],
   resolutionNm: number,
+  surelySeen: readonly [number, number],
 ): [number, number] {
   if (given) return [Math.max(given[0], rangeNm[0]), Math.min(given[1], rangeNm[1])];
   if (lineLike.length === 0) return [...rangeNm];
-  let lo = Infinity;
-  let hi = -Infinity;
+  let lo = surelySeen[0] + 3 * resolutionNm;
+  let hi = surelySeen[1] - 3 * resolutionNm;
   for (const p of lineLike) {
     lo = Math.min(lo, p.wavelengthNm);
     hi = Math.max(hi, p.wavelengthNm);
