@@ -51,7 +51,7 @@ export interface MatchLinesOptions {
   maxPeaks: number;
   /** Strongest peaks that form triplets. @default 24 */
   seedPeaks: number;
-  /** Locally brightest lines forming triplets, per seed peak. @default 4 */
+  /** Locally brightest lines forming triplets, per seed peak. @default 2.5 */
   seedLinesPerPeak: number;
   /** Hypotheses grown into full solutions. @default 40 */
   maxGrown: number;
@@ -79,7 +79,7 @@ export const MATCH_LINES_DEFAULTS: MatchLinesOptions = {
   colour: COLOUR_PRIOR_DEFAULTS,
   maxPeaks: 60,
   seedPeaks: 24,
-  seedLinesPerPeak: 4,
+  seedLinesPerPeak: 2.5,
   maxGrown: 40,
   maxFalseMatchProbability: 5e-3,
   minMatches: 3,
