@@ -46,7 +46,6 @@ export type {
 } from './profile.js';
 export {
   CALIBRATE_DEFAULTS,
-  CALIBRATE_MATCH_DEFAULTS,
   calibrateFromPeaks,
   EXIF_FOCAL_LENGTH_RELATIVE_SIGMA,
   gratingPriors,
