@@ -9,7 +9,9 @@ import { HIGH_VOLTAGE_CAUTION, LASER_CAUTION, UV_CAUTION } from '../core/safety.
 import type { BandGeometry } from '../core/types.js';
 import { airToVacuumNm } from '../core/units/airVacuum.js';
 import { DECODE_IMAGE_DEFAULTS } from '../io/image.js';
-import { lampLinesFor } from '../io/lineList.js';
+import { existsSync, statSync } from 'node:fs';
+import { lampLines, type LampLines } from '../core/lines/index.js';
+import { lampLinesFor, loadLampCatalog } from '../io/lineList.js';
 import { writeProfile } from '../io/profileFile.js';
 import { packageVersion } from '../io/projectRoot.js';
 import { analyseSpectrumInput, parseBandOption } from '../tasks/spectrum.js';
@@ -57,6 +59,21 @@ Safety:
   ${UV_CAUTION}
   ${LASER_CAUTION}
 `;
+
+/**
+ * The lines automatic matching works with: every listed line of the lamp's spectra, not only the strong ones the
+ * lamp definition selects. A tube shows its weaker lines too, and a peak whose line is missing from the list either
+ * goes unexplained (weakening the evidence) or lands on a listed neighbour (a wrong match); the significance test
+ * allows for the denser list. A spec naming a line-list file is read as the user gave it.
+ */
+export function calibrationLines(spec: string, resolutionNm?: number): LampLines {
+  const tokens = spec.split(/[,+]/).map((t) => t.trim());
+  const names = (t: string) => /[\\/]/.test(t) || /\.(csv|tsv|txt|ascii|dat)$/i.test(t) || (existsSync(t) && statSync(t).isFile());
+  if (tokens.some(names)) return lampLinesFor(spec, resolutionNm === undefined ? {} : { resolutionNm });
+  const catalog = loadLampCatalog();
+  const everyLine = { ...catalog, lamps: catalog.lamps.map((l) => ({ ...l, select: 'all' as const })) };
+  return lampLines(spec, resolutionNm === undefined ? { catalog: everyLine } : { catalog: everyLine, resolutionNm });
+}
 
 /** `812.4=546.074,1040.2=611.6` → pairs; each bad item is named. */
 export function parsePairs(text: string): ManualPair[] {
@@ -245,7 +262,7 @@ export async function runCalibrate(input: string, opts: CalibrateCliOptions): Pr
     throw new InputError(`${opts.out}: refusing to write over an input file; choose another output name`, opts.out);
   }
   // Lamp lines first: a misspelt lamp should not wait for a photo to be decoded.
-  const lamp = opts.lamp ? lampLinesFor(opts.lamp) : null;
+  const lamp = opts.lamp ? calibrationLines(opts.lamp) : null;
 
   const band = opts.band === undefined ? undefined : parseBandOption(opts.band);
   const { analysis } = await analyseSpectrumInput(input, { dark: opts.dark, band, maxPixels });
@@ -260,7 +277,7 @@ export async function runCalibrate(input: string, opts: CalibrateCliOptions): Pr
   const result = calibrateFromPeaks(analysis.peaks, lamp ? lamp.lines : null, {
     pairs,
     match: { direction: opts.direction },
-    linesAtResolution: opts.lamp ? (resolutionNm) => lampLinesFor(opts.lamp!, { resolutionNm }).lines : null,
+    linesAtResolution: opts.lamp ? (resolutionNm) => calibrationLines(opts.lamp!, resolutionNm).lines : null,
     fit: {
       model: modelChoice,
       degree: degree ?? null,

@@ -2,11 +2,17 @@ import { InputError } from '../errors.js';
 import { focalLengthPxFrom35mm } from '../render/gratingCamera.js';
 import { imageToBandPx } from '../spectrum/band/frame.js';
 import type { BandGeometry, Peak, SpectralLine } from '../types.js';
-import { fitDispersion, type CalibrationPoint, type DispersionFit, type FitDispersionOptions } from './fitDispersion.js';
+import {
+  FIT_DISPERSION_DEFAULTS,
+  fitDispersion,
+  type CalibrationPoint,
+  type DispersionFit,
+  type FitDispersionOptions,
+} from './fitDispersion.js';
 import type { GratingFitOptions, ParameterPrior } from './gratingModel.js';
 import { isBroadFeature, type LampLineInfo, referenceUncertaintyNm } from './lineReference.js';
 import { matchLines, type ManualPair, type MatchLinesOptions, type MatchResult } from './matchLines.js';
-import { dispersionAtNmPerPx } from './model.js';
+import { dispersionAtNmPerPx, wavelengthAtNm } from './model.js';
 
 /** Where the physical model's focal length and axis come from, for a photo. */
 export interface GratingPriorsInput {
@@ -87,7 +93,19 @@ export interface CalibrateOptions {
   linesAtResolution: ((resolutionNm: number) => readonly SpectralLine[]) | null;
 }
 
-export const CALIBRATE_DEFAULTS: CalibrateOptions = { pairs: [], match: {}, fit: {}, snapPx: 3, linesAtResolution: null };
+/**
+ * Matching for a calibration works with every listed line of the lamp (see the CLI's calibrationLines): more seed
+ * lines per peak keep the lines a photo shows among the triplets' seeds.
+ */
+export const CALIBRATE_MATCH_DEFAULTS: Partial<MatchLinesOptions> = { seedLinesPerPeak: 4 };
+
+export const CALIBRATE_DEFAULTS: CalibrateOptions = {
+  pairs: [],
+  match: CALIBRATE_MATCH_DEFAULTS,
+  fit: {},
+  snapPx: 3,
+  linesAtResolution: null,
+};
 
 export interface CalibrationResult {
   fit: DispersionFit;
@@ -121,7 +139,7 @@ export function calibrateFromPeaks(
     // With priors from the photo, the matcher also scores its solutions with the physical model.
     const g = o.fit.grating;
     const priors = g && (g.focalLengthPx || g.axisPositionPx) ? g : null;
-    match = matchLines(peaks, usable, { grating: priors, ...o.match, pairs: o.pairs, snapPx: o.snapPx });
+    match = matchLines(peaks, usable, { grating: priors, ...CALIBRATE_MATCH_DEFAULTS, ...o.match, pairs: o.pairs, snapPx: o.snapPx });
     warnings.push(...match.warnings);
     if (!match.accepted && o.pairs.length < 2) throw new InputError(match.message, 'lamp');
   }
@@ -181,11 +199,42 @@ export function calibrateFromPeaks(
       const relisted = o.linesAtResolution(resolutionNm);
       // A neighbour that has a peak of its own was resolved by the peak finder's joint fit: it shifts nothing.
       const seen = new Set(points.map((p) => p.wavelengthNm.toFixed(4)));
+      const sigmaAtResolution = (line: LampLineInfo) =>
+        referenceUncertaintyNm({ ...line, blendedWith: (line.blendedWith ?? []).filter((w) => !seen.has(w.toFixed(4))) }, relisted);
       points = points.map((p) => {
         const line = relisted.find((l) => Math.abs(l.wavelengthNm - p.wavelengthNm) < 1e-6) as LampLineInfo | undefined;
         if (!line || p.source === 'manual') return p;
-        const unresolved = { ...line, blendedWith: (line.blendedWith ?? []).filter((w) => !seen.has(w.toFixed(4))) };
-        return { ...p, referenceUncertaintyNm: Math.max(p.referenceUncertaintyNm ?? 0, referenceUncertaintyNm(unresolved, relisted)) };
+        return { ...p, referenceUncertaintyNm: Math.max(p.referenceUncertaintyNm ?? 0, sigmaAtResolution(line)) };
+      });
+      // Peaks the matcher left alone because they sit on a known blend (their centre lies between the lines) are
+      // listed with it, for the residual table; too vague to calibrate with, the fit leaves them out.
+      const maxSigma = o.fit.maxReferenceUncertaintyNm ?? FIT_DISPERSION_DEFAULTS.maxReferenceUncertaintyNm;
+      const taken = new Set(points.map((p) => p.peakIndex).filter((i) => i !== undefined));
+      const model = match.model;
+      peaks.forEach((peak, index) => {
+        if (taken.has(index) || peak.saturated || !(peak.positionUncertaintyPx <= 0.5)) return;
+        const lambda = wavelengthAtNm(model, peak.positionPx);
+        const disp = Math.abs(dispersionAtNmPerPx(model, peak.positionPx));
+        let best: LampLineInfo | undefined;
+        for (const l of relisted) if (!best || Math.abs(l.wavelengthNm - lambda) < Math.abs(best.wavelengthNm - lambda)) best = l;
+        if (!best || seen.has(best.wavelengthNm.toFixed(4)) || isBroadFeature(best)) return;
+        const sigma = sigmaAtResolution(best);
+        if (!(sigma > maxSigma)) return;
+        // A blend's centre lies within its components' extent.
+        const extent = Math.max(0, ...(best.blendedWith ?? []).map((w) => Math.abs(w - best!.wavelengthNm)));
+        if (Math.abs(best.wavelengthNm - lambda) > 3 * Math.max(peak.positionUncertaintyPx, 0.1) * disp + extent) return;
+        seen.add(best.wavelengthNm.toFixed(4));
+        points.push({
+          positionPx: peak.positionPx,
+          positionUncertaintyPx: peak.positionUncertaintyPx,
+          wavelengthNm: best.wavelengthNm,
+          referenceUncertaintyNm: sigma,
+          source: 'matched',
+          label: lineLabel(best),
+          saturated: false,
+          blended: peak.blended,
+          peakIndex: index,
+        });
       });
     }
   }

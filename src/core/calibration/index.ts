@@ -46,6 +46,7 @@ export type {
 } from './profile.js';
 export {
   CALIBRATE_DEFAULTS,
+  CALIBRATE_MATCH_DEFAULTS,
   calibrateFromPeaks,
   EXIF_FOCAL_LENGTH_RELATIVE_SIGMA,
   gratingPriors,

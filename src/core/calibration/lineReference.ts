@@ -20,23 +20,24 @@ export const MAX_FEATURE_WIDTH_NM = 5;
 
 /**
  * How well a lamp line's wavelength describes the peak a camera records: a broad feature's centre is known to
- * BROAD_FEATURE_RELATIVE_SIGMA of its width; a line blended with lamp neighbours of relative intensity w_j records at
- * the intensity-weighted centroid, shifted by Σ w_j(λ_j − λ₀)/(1 + Σ w_j) — with lamps' intensities uncertain by
- * factors of several, the whole shift is taken as one standard uncertainty.
+ * BROAD_FEATURE_RELATIVE_SIGMA of its width; a line blended with unresolved lamp neighbours of relative intensity w_j
+ * records somewhere in the blend — at its intensity-weighted centroid, but lamps' intensities are uncertain by
+ * factors of several, so the standard uncertainty is the blend's intensity-weighted spread about that centroid,
+ * √(Σ w_j (λ_j − λ̄)² / Σ w_j) with the line itself at weight 1 (which also covers the centroid's shift from λ₀).
  */
 export function referenceUncertaintyNm(line: LampLineInfo, lampLines: readonly SpectralLine[]): number {
   const base = line.kind === 'phosphor' && line.widthNm ? BROAD_FEATURE_RELATIVE_SIGMA * line.widthNm : 0;
-  let shift = 0;
-  let weight = 1;
   const own = line.relativeIntensity ?? line.intensity;
+  const parts: Array<{ l: number; w: number }> = [{ l: line.wavelengthNm, w: 1 }];
   for (const other of line.blendedWith ?? []) {
     const n = lampLines.find((l) => Math.abs(l.wavelengthNm - other) < 1e-6) as LampLineInfo | undefined;
     const rel = n ? (n.relativeIntensity ?? n.intensity) : own;
-    const w = own > 0 && rel > 0 ? rel / own : 1;
-    shift += w * (other - line.wavelengthNm);
-    weight += w;
+    parts.push({ l: other, w: own > 0 && rel > 0 ? rel / own : 1 });
   }
-  return Math.hypot(base, shift / weight);
+  const total = parts.reduce((a, p) => a + p.w, 0);
+  const mean = parts.reduce((a, p) => a + p.w * p.l, 0) / total;
+  const spread = Math.sqrt(parts.reduce((a, p) => a + p.w * (p.l - mean) ** 2, 0) / total);
+  return Math.hypot(base, spread);
 }
 
 /** True for a feature too broad to calibrate with (wider than MAX_FEATURE_WIDTH_NM). */

@@ -51,7 +51,7 @@ export interface MatchLinesOptions {
   maxPeaks: number;
   /** Strongest peaks that form triplets. @default 24 */
   seedPeaks: number;
-  /** Locally brightest lines forming triplets, per seed peak. @default 2.5 */
+  /** Locally brightest lines forming triplets, per seed peak (calibrateFromPeaks uses 4 for full line lists). @default 2.5 */
   seedLinesPerPeak: number;
   /** Hypotheses grown into full solutions. @default 40 */
   maxGrown: number;

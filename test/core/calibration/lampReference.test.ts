@@ -38,10 +38,11 @@ describe('the lamp lines calibration matches against', () => {
     expect(phosphors.some((p) => isBroadFeature(p))).toBe(true);
   });
 
-  it('a lamp blend gets the intensity-weighted shift as its uncertainty (hand-computed)', () => {
-    // λ0 = 600 (relative 1) with a neighbour at 600.8 (relative 0.25): shift = 0.25·0.8 / 1.25 = 0.16 nm.
+  it('a lamp blend gets its intensity-weighted spread as uncertainty (hand-computed)', () => {
+    // λ0 = 600 (relative 1) with a neighbour at 600.8 (relative 0.25): centroid 600.16 nm,
+    // spread √((1·0.16² + 0.25·0.64²)/1.25) = √0.1024 = 0.32 nm.
     const a = { wavelengthNm: 600, intensity: 1, element: 'X', spectrum: 'X I', relativeIntensity: 1, blendedWith: [600.8] };
     const b = { wavelengthNm: 600.8, intensity: 0.25, element: 'X', spectrum: 'X I', relativeIntensity: 0.25, blendedWith: [600] };
-    expect(Math.abs(referenceUncertaintyNm(a, [a, b]) - 0.16)).toBeLessThanOrEqual(1e-12);
+    expect(Math.abs(referenceUncertaintyNm(a, [a, b]) - 0.32)).toBeLessThanOrEqual(1e-12);
   });
 });

