@@ -6,7 +6,7 @@ import type { Peak, SpectralLine } from '../src/core/types.js';
 import { loadLaserDefinitions, loadLineList, lampLinesFor } from '../src/io/lineList.js';
 import { dataPath } from '../src/io/projectRoot.js';
 import { readProfile } from '../src/io/profileFile.js';
-import { runCalibrate } from '../src/cli/calibrate.js';
+import { runCalibrate } from '../src/tasks/calibrate.js';
 import { analyseSpectrumInput } from '../src/tasks/spectrum.js';
 import { type BenchFigure, type BenchSection, median } from './section.js';
 import path from 'node:path';

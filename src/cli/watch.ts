@@ -8,7 +8,7 @@ import { loadLineList } from '../io/lineList.js';
 import { readProfile } from '../io/profileFile.js';
 import { createSvgDocument } from '../io/svgDocument.js';
 import { watchFolder, WATCH_DEFAULTS } from '../tasks/watch.js';
-import { identificationJson, identifyFile } from './identify.js';
+import { identificationJson, identifyFile } from '../tasks/identify.js';
 import { action, note, numberOption } from './run.js';
 
 interface WatchCliOptions {

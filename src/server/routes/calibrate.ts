@@ -1,6 +1,6 @@
 /**
  * POST /api/calibrate — a photo (or spectrum CSV) of a known lamp → wavelength calibration, the same JSON as
- * `glowprint calibrate --json` (runCalibrate of src/cli/calibrate.ts), with the instrument profile it makes
+ * `glowprint calibrate --json` (runCalibrate of src/tasks/calibrate.ts), with the instrument profile it makes
  * (`instrument_profile`) and, with `save` (a profile name), that profile kept in the workspace. Fields: `lamp`
  * ('fluorescent', 'Ne,Hg', 'laser:632.816'), `pairs` ('812.4=546.074,…'), `model` ('auto', 'poly', 'grating'),
  * `degree`, `order`, `focal_px`, `direction`, `band`, `vacuum`. Also registers the instrument profile's validator for
@@ -11,7 +11,7 @@ import { PROFILE_FORMAT, profileToJson } from '../../core/calibration/profile.js
 import { parseProfileText } from '../../io/profileFile.js';
 import { InputError } from '../../core/errors.js';
 import { checkProfileName, saveProfile } from '../../io/workspace.js';
-import { runCalibrate } from '../../cli/calibrate.js';
+import { runCalibrate } from '../../tasks/calibrate.js';
 import { sendResult } from '../app.js';
 import type { RouteContext } from './index.js';
 import { profileValidators } from './profiles.js';

@@ -1,7 +1,7 @@
 /**
  * POST /api/identify — a photo (or spectrum CSV) of a tube or lamp → which species, how sure, what is unexplained,
  * and the laser kind for a single dominant line: the same JSON as `glowprint identify --json` (identifyFile and
- * identificationJson of src/cli/identify.ts). With `profile` (the name of a saved instrument profile) the peaks get
+ * identificationJson of src/tasks/identify.ts). With `profile` (the name of a saved instrument profile) the peaks get
  * their wavelengths from it; without, the spectrum calibrates itself and the answer says so.
  */
 import type { Router } from 'express';
@@ -9,7 +9,7 @@ import { profileFromJson, type InstrumentProfile } from '../../core/calibration/
 import { InputError } from '../../core/errors.js';
 import { loadLineList } from '../../io/lineList.js';
 import { checkProfileName, loadProfile } from '../../io/workspace.js';
-import { identificationJson, identifyFile } from '../../cli/identify.js';
+import { identificationJson, identifyFile } from '../../tasks/identify.js';
 import { sendResult } from '../app.js';
 import type { RouteContext } from './index.js';
 import { checkUpload, handle, optionsOf, SINGLE_INPUT_FIELDS, singleInput, textOption, withUploads } from './spectrum.js';

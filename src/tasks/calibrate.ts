@@ -1,0 +1,289 @@
+/**
+ * The `calibrate` task: a lamp photo (or pixel-axis spectrum CSV) → lamp-line matching and/or given pairs → dispersion
+ * fit → the report `glowprint calibrate --json` prints, and the instrument profile (written with `out`). The CLI, the
+ * server route and the demo call runCalibrate; options come as the command takes them (text).
+ */
+import path from 'node:path';
+import { existsSync, statSync } from 'node:fs';
+import { calibrateFromPeaks, gratingPriors, type CalibrationResult } from '../core/calibration/calibrate.js';
+import type { DispersionFit } from '../core/calibration/fitDispersion.js';
+import type { ManualPair } from '../core/calibration/matchLines.js';
+import { buildProfile, type InstrumentProfile } from '../core/calibration/profile.js';
+import { InputError, parseNumberOption } from '../core/errors.js';
+import { lampLines, type LampLines } from '../core/lines/index.js';
+import type { BandGeometry } from '../core/types.js';
+import { airToVacuumNm } from '../core/units/airVacuum.js';
+import { lampLinesFor, loadLampCatalog } from '../io/lineList.js';
+import { writeProfile } from '../io/profileFile.js';
+import { packageVersion } from '../io/projectRoot.js';
+import { analyseSpectrumInput, parseBandOption } from './spectrum.js';
+
+/** The options of `glowprint calibrate`, as text the way the command (or an API form) gives them. */
+export interface CalibrateOptions {
+  lamp?: string;
+  pairs?: string;
+  model: 'poly' | 'grating' | 'auto';
+  degree?: string;
+  order?: string;
+  focalPx?: string;
+  direction: 'either' | 'increasing' | 'decreasing';
+  out?: string;
+  json?: boolean;
+  vacuum?: boolean;
+  band?: string;
+  dark?: string;
+  maxPixels?: string;
+}
+
+/**
+ * The lines automatic matching works with: every listed line of the lamp's spectra, not only the strong ones the
+ * lamp definition selects. A tube shows its weaker lines too, and a peak whose line is missing from the list either
+ * goes unexplained (weakening the evidence) or lands on a listed neighbour (a wrong match); the significance test
+ * allows for the denser list. A spec naming a line-list file is read as the user gave it.
+ */
+export function calibrationLines(spec: string, resolutionNm?: number): LampLines {
+  const tokens = spec.split(/[,+]/).map((t) => t.trim());
+  const names = (t: string) => /[\\/]/.test(t) || /\.(csv|tsv|txt|ascii|dat)$/i.test(t) || (existsSync(t) && statSync(t).isFile());
+  if (tokens.some(names)) return lampLinesFor(spec, resolutionNm === undefined ? {} : { resolutionNm });
+  const catalog = loadLampCatalog();
+  const everyLine = { ...catalog, lamps: catalog.lamps.map((l) => ({ ...l, select: 'all' as const })) };
+  return lampLines(spec, resolutionNm === undefined ? { catalog: everyLine } : { catalog: everyLine, resolutionNm });
+}
+
+/** `812.4=546.074,1040.2=611.6` → pairs; each bad item is named. */
+export function parsePairs(text: string): ManualPair[] {
+  const items = text.split(',').map((s) => s.trim()).filter((s) => s !== '');
+  if (items.length === 0) throw new InputError('--pairs: expected position_px=wavelength_nm items separated by commas', '--pairs');
+  return items.map((item) => {
+    const m = /^([^=]+)=([^=]+)$/.exec(item);
+    const x = m ? Number(m[1].trim()) : NaN;
+    const l = m ? Number(m[2].trim()) : NaN;
+    if (!m || !Number.isFinite(x) || !Number.isFinite(l) || m[1].trim() === '' || m[2].trim() === '') {
+      throw new InputError(`--pairs: ${JSON.stringify(item)} is not position_px=wavelength_nm (e.g. 812.4=546.074)`, '--pairs');
+    }
+    if (!(l >= 100 && l <= 3000)) throw new InputError(`--pairs: ${JSON.stringify(item)}: the wavelength ${l} nm is not a plausible air wavelength (100–3000 nm)`, '--pairs');
+    return { positionPx: x, wavelengthNm: l };
+  });
+}
+
+/** What `glowprint calibrate --json` prints (before snake_case). */
+export interface CalibrateReport {
+  command: 'calibrate';
+  input: { file: string; kind: 'photo' | 'csv'; widthPx?: number; heightPx?: number };
+  lamp: string | null;
+  lampLines: number;
+  medium: 'air' | 'vacuum';
+  model: Record<string, unknown>;
+  rmsNm: number;
+  rmsPx: number;
+  dispersionNmPerPx: number;
+  rangeNm: [number, number];
+  rangePx: [number, number];
+  linesUsed: number;
+  linesPerMm?: number;
+  linesPerMmUncertainty?: number;
+  lines: Array<{
+    positionPx: number;
+    positionUncertaintyPx: number;
+    wavelengthNm: number;
+    fittedNm: number;
+    residualNm: number;
+    residualPx: number;
+    used: boolean;
+    excluded?: string;
+    label?: string;
+    source: 'manual' | 'matched';
+  }>;
+  match: Record<string, unknown> | null;
+  modelSelection: Array<Record<string, unknown>>;
+  profile: string | null;
+  warnings: string[];
+}
+
+function modelSummary(fit: DispersionFit, focalLengthSource: string): Record<string, unknown> {
+  const m = fit.model;
+  if (m.kind === 'polynomial') {
+    return { kind: 'polynomial', degree: m.degree, centerPx: m.centerPx, scalePx: m.scalePx, coefficientsNm: m.coefficientsNm };
+  }
+  const sd = (i: number) => Math.sqrt(Math.max(0, m.covariance[i][i]));
+  return {
+    kind: 'grating',
+    order: m.order,
+    linesPerMm: fit.linesPerMm,
+    linesPerMmUncertainty: fit.linesPerMmUncertainty,
+    grooveSpacingNm: m.grooveSpacingNm,
+    grooveSpacingUncertaintyNm: sd(0),
+    cameraAngleDeg: m.cameraAngleDeg,
+    cameraAngleUncertaintyDeg: sd(1),
+    incidenceAngleDeg: m.incidenceAngleDeg,
+    axisPositionPx: m.axisPositionPx,
+    axisPositionUncertaintyPx: sd(2),
+    focalLengthPx: m.focalLengthPx,
+    focalLengthUncertaintyPx: sd(3),
+    focalLengthSource,
+    direction: m.direction,
+  };
+}
+
+/** Builds the report; in vacuum mode wavelengths (reference, fitted, range) are converted from air by Ciddor (1996). */
+export function calibrateReport(
+  result: CalibrationResult,
+  context: { input: CalibrateReport['input']; lamp: string | null; lampLines: number; vacuum: boolean; focalLengthSource: string; profile: string | null; warnings: string[] },
+): CalibrateReport {
+  const { fit, match } = result;
+  const conv = (l: number) => (context.vacuum ? airToVacuumNm(l) : l);
+  const n = (l: number) => (context.vacuum ? airToVacuumNm(l) / l : 1);
+  const report: CalibrateReport = {
+    command: 'calibrate',
+    input: context.input,
+    lamp: context.lamp,
+    lampLines: context.lampLines,
+    medium: context.vacuum ? 'vacuum' : 'air',
+    model: modelSummary(fit, context.focalLengthSource),
+    rmsNm: fit.rmsNm,
+    rmsPx: fit.rmsPx,
+    dispersionNmPerPx: fit.dispersionNmPerPx * n((fit.rangeNm[0] + fit.rangeNm[1]) / 2),
+    rangeNm: [conv(fit.rangeNm[0]), conv(fit.rangeNm[1])],
+    rangePx: fit.rangePx,
+    linesUsed: fit.linesUsed,
+    lines: fit.lines.map((l) => ({
+      positionPx: l.positionPx,
+      positionUncertaintyPx: l.positionUncertaintyPx,
+      wavelengthNm: conv(l.wavelengthNm),
+      fittedNm: conv(l.fittedNm),
+      residualNm: conv(l.wavelengthNm) - conv(l.fittedNm),
+      residualPx: l.residualPx,
+      used: l.used,
+      excluded: l.excluded,
+      label: l.label,
+      source: l.source,
+    })),
+    match: match?.score
+      ? {
+          matched: match.score.matched,
+          peaksInRange: match.score.peaksInRange,
+          expectedByChance: match.score.expectedByChance,
+          falseMatchProbability: match.score.falseMatchProbability,
+          tolerancePx: match.score.tolerancePx,
+          scoredWith: match.score.model,
+        }
+      : null,
+    modelSelection: fit.candidates.map((c) => ({ ...c, criterionName: fit.criterion })),
+    profile: context.profile,
+    warnings: context.warnings,
+  };
+  if (fit.linesPerMm !== undefined) {
+    report.linesPerMm = fit.linesPerMm;
+    report.linesPerMmUncertainty = fit.linesPerMmUncertainty;
+  }
+  return report;
+}
+
+/** The readable summary and residual table of a calibration. */
+export function formatCalibrateReport(r: CalibrateReport): string {
+  const out: string[] = [];
+  const unit = r.medium === 'vacuum' ? 'nm (vacuum)' : 'nm (air)';
+  out.push(`calibration of ${r.input.file}${r.lamp ? ` with ${r.lamp} (${r.lampLines} lines)` : ' from the given pairs'}`);
+  const m = r.model;
+  if (m.kind === 'grating') {
+    out.push(
+      `model: grating, order ${m.order}: ${(m.linesPerMm as number).toFixed(1)} ± ${(m.linesPerMmUncertainty as number).toFixed(1)} lines/mm, ` +
+        `camera at ${(m.cameraAngleDeg as number).toFixed(2)}°, f = ${(m.focalLengthPx as number).toFixed(0)} px (${m.focalLengthSource})`,
+    );
+  } else {
+    out.push(`model: polynomial of degree ${m.degree}`);
+  }
+  out.push(
+    `range ${r.rangeNm[0].toFixed(2)}–${r.rangeNm[1].toFixed(2)} ${unit}, ${r.dispersionNmPerPx.toFixed(4)} nm/px at its middle; ` +
+      `RMS ${r.rmsNm.toFixed(3)} nm = ${r.rmsPx.toFixed(3)} px over ${r.linesUsed} lines`,
+  );
+  if (r.match) {
+    out.push(
+      `matching: ${r.match.matched} of ${r.match.peaksInRange} peaks on lamp lines (chance alone: ${(r.match.expectedByChance as number).toFixed(1)}; ` +
+        `false-match bound ${(r.match.falseMatchProbability as number).toExponential(1)})`,
+    );
+  }
+  out.push('');
+  out.push('position_px   wavelength_nm   fitted_nm   residual_nm  used  line');
+  for (const l of r.lines) {
+    out.push(
+      `${l.positionPx.toFixed(2).padStart(11)}  ${l.wavelengthNm.toFixed(3).padStart(14)}  ${l.fittedNm.toFixed(3).padStart(10)}  ` +
+        `${l.residualNm.toFixed(3).padStart(12)}  ${(l.used ? 'yes' : l.excluded ?? 'no').padEnd(4)}  ${l.label ?? ''}`,
+    );
+  }
+  if (r.profile) out.push('', `profile written to ${r.profile}`);
+  return out.join('\n') + '\n';
+}
+
+function stripBand(b: BandGeometry): BandGeometry {
+  return { angleDeg: b.angleDeg, slantDeg: b.slantDeg, center: { x: b.center.x, y: b.center.y }, lengthPx: b.lengthPx, heightPx: b.heightPx };
+}
+
+/** The whole command without printing: input → peaks → calibration → report (+ profile). */
+export async function runCalibrate(input: string, opts: CalibrateOptions): Promise<{ report: CalibrateReport; profile: InstrumentProfile }> {
+  if (!opts.lamp && !opts.pairs) throw new InputError('nothing to calibrate with: give --lamp (e.g. --lamp Hg), --pairs, or both', '--lamp');
+  const degree = parseNumberOption('--degree', opts.degree);
+  if (degree !== undefined && !(Number.isInteger(degree) && degree >= 1 && degree <= 4)) {
+    throw new InputError(`--degree: expected an integer from 1 to 4, got ${opts.degree}`, '--degree');
+  }
+  if (degree !== undefined && opts.model === 'grating') throw new InputError('--degree applies to --model poly, not to the grating model', '--degree');
+  const order = parseNumberOption('--order', opts.order) ?? 1;
+  if (!(Number.isInteger(order) && order >= 1 && order <= 10)) throw new InputError(`--order: expected a diffraction order from 1 to 10, got ${opts.order}`, '--order');
+  const focalLengthPx = parseNumberOption('--focal-px', opts.focalPx);
+  if (focalLengthPx !== undefined && !(focalLengthPx > 0)) throw new InputError(`--focal-px: expected a positive focal length in pixels, got ${opts.focalPx}`, '--focal-px');
+  const maxPixels = parseNumberOption('--max-pixels', opts.maxPixels);
+  const pairs = opts.pairs ? parsePairs(opts.pairs) : [];
+  const inputs = [input, ...(opts.dark ? [opts.dark] : [])];
+  if (opts.out && inputs.some((f) => path.resolve(f) === path.resolve(opts.out!))) {
+    throw new InputError(`${opts.out}: refusing to write over an input file; choose another output name`, opts.out);
+  }
+  // Lamp lines first: a misspelt lamp should not wait for a photo to be decoded.
+  const lamp = opts.lamp ? calibrationLines(opts.lamp) : null;
+
+  const band = opts.band === undefined ? undefined : parseBandOption(opts.band);
+  const { analysis } = await analyseSpectrumInput(input, { dark: opts.dark, band, maxPixels });
+  if (analysis.input.kind === 'csv' && analysis.input.axis === 'wavelength') {
+    throw new InputError(`${input}: this spectrum already has a wavelength axis; calibration needs positions in pixels`, input);
+  }
+  const photo = analysis.input.kind === 'photo';
+  const image = photo && analysis.input.widthPx && analysis.input.heightPx ? { widthPx: analysis.input.widthPx, heightPx: analysis.input.heightPx } : null;
+  const bandGeometry = analysis.band ? stripBand(analysis.band) : null;
+  const priors = gratingPriors({ image, band: bandGeometry, focalLength35mmMm: analysis.input.exif?.focalLength35mmMm, focalLengthPx });
+  const modelChoice = opts.model === 'poly' ? 'polynomial' : opts.model;
+  const result = calibrateFromPeaks(analysis.peaks, lamp ? lamp.lines : null, {
+    pairs,
+    match: { direction: opts.direction },
+    linesAtResolution: opts.lamp ? (resolutionNm) => calibrationLines(opts.lamp!, resolutionNm).lines : null,
+    fit: {
+      model: modelChoice,
+      degree: degree ?? null,
+      grating: { order, focalLengthPx: priors.focalLengthPx, axisPositionPx: priors.axisPositionPx },
+    },
+  });
+  const warnings = [...analysis.warnings, ...(lamp?.warnings ?? []), ...result.warnings];
+  if (result.fit.model.kind === 'grating' && priors.focalLengthSource === 'fitted') {
+    warnings.push('no focal length known (no EXIF 35-mm focal length, no --focal-px): f was fitted, and the line density is correspondingly uncertain');
+  }
+  const profile = buildProfile(result.fit, {
+    lamp: opts.lamp ?? 'pairs',
+    sourceFile: path.basename(input),
+    image,
+    camera: photo && analysis.input.exif && Object.keys(analysis.input.exif).length ? { ...analysis.input.exif } : null,
+    band: bandGeometry,
+    focalLengthSource: priors.focalLengthSource,
+    createdAt: new Date().toISOString(),
+    software: { name: 'glowprint', version: packageVersion() },
+  });
+  if (opts.out) await writeProfile(opts.out, profile, { inputs });
+  const report = calibrateReport(result, {
+    input: { file: input, kind: analysis.input.kind, widthPx: analysis.input.widthPx, heightPx: analysis.input.heightPx },
+    lamp: opts.lamp ?? null,
+    lampLines: lamp ? lamp.lines.length : 0,
+    vacuum: opts.vacuum === true,
+    focalLengthSource: priors.focalLengthSource,
+    profile: opts.out ?? null,
+    warnings,
+  });
+  return { report, profile };
+}
+
