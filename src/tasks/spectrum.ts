@@ -4,12 +4,15 @@
  */
 import { promises as fs } from 'node:fs';
 import path from 'node:path';
+import { applyProfileToPeaks, type InstrumentProfile, positionsInProfileFrame } from '../core/calibration/profile.js';
+import { wavelengthAtNm } from '../core/calibration/model.js';
 import { InputError } from '../core/errors.js';
 import { findBand } from '../core/spectrum/findBand.js';
 import { type ExtractSpectrumOptions, extractSpectrum } from '../core/spectrum/extract.js';
 import { findPeaksDetailed, peaksToWavelength } from '../core/spectrum/peaks/index.js';
 import { plotSpectrumSvg } from '../core/spectrum/plotSpectrum.js';
 import type { BandGeometry, Peak, Spectrum } from '../core/types.js';
+import { airToVacuumNm } from '../core/units/airVacuum.js';
 import { decodeImage, type ExifSummary } from '../io/image.js';
 import { readSpectrumCsv } from '../io/readSpectrumCsv.js';
 import { sniffKind } from '../io/sniff.js';
@@ -22,7 +25,24 @@ export interface SpectrumAnalysis {
   band: BandSummary | null;
   spectrum: { samples: number; saturatedSamples: number; noise: number; threshold: number };
   peaks: Peak[];
+  /** The instrument profile applied to the peaks (`--calibration`); absent without one. */
+  calibration?: SpectrumCalibrationSummary;
   warnings: string[];
+}
+
+/** Which profile gave the wavelengths, and how far to trust them. */
+export interface SpectrumCalibrationSummary {
+  /** The profile file as given. */
+  profile: string;
+  lamp: string;
+  model: string;
+  /** Wavelengths are in standard air (the NIST convention) unless --vacuum. */
+  medium: 'air' | 'vacuum';
+  rmsNm: number;
+  /** The range the profile's lines cover (air, nm); peaks beyond it are extrapolated. */
+  rangeNm: [number, number];
+  linesPerMm?: number;
+  extrapolatedPeaks: number;
 }
 
 export type BandSummary = BandGeometry & {
@@ -53,6 +73,10 @@ export interface AnalyseSpectrumOptions {
   maxPixels?: number;
   /** Transfer function of the pixel values; by default 8-bit is sRGB and 16-bit linear. */
   transfer?: 'srgb' | 'linear';
+  /** An instrument profile (glowprint calibrate --out) to give every peak and sample a wavelength. */
+  calibration?: { profile: InstrumentProfile; file: string };
+  /** With a calibration: report vacuum wavelengths (Ciddor 1996, standard air). @default false */
+  vacuum?: boolean;
   /** Called after each stage with its wall time (the benchmark's breakdown). */
   onStage?: (stage: 'decode' | 'band' | 'extract' | 'peaks', ms: number) => void;
 }
@@ -68,6 +92,14 @@ const CSV_EXTENSIONS = new Set(['.csv', '.tsv', '.txt', '.dat']);
 
 /** Photo or CSV → spectrum → peak table: decodeImage → findBand (or the manual band) → extractSpectrum → findPeaks. */
 export async function analyseSpectrumInput(file: string, options: AnalyseSpectrumOptions = {}): Promise<SpectrumRun> {
+  if (options.vacuum && !options.calibration) {
+    throw new InputError('--vacuum needs --calibration: without a profile the peaks have no wavelengths to convert', '--vacuum');
+  }
+  const run = await measureSpectrum(file, options);
+  return options.calibration ? applyCalibration(run, options.calibration, options.vacuum ?? false) : run;
+}
+
+async function measureSpectrum(file: string, options: AnalyseSpectrumOptions): Promise<SpectrumRun> {
   const kind = await inputKind(file);
   if (kind === 'csv') {
     if (options.band || options.dark) {
@@ -127,6 +159,52 @@ export async function analyseSpectrumInput(file: string, options: AnalyseSpectru
     warnings,
   };
   return { analysis, spectrum };
+}
+
+/**
+ * Gives the peaks and every sample of a measured spectrum their wavelengths from an instrument profile: positions are
+ * carried into the profile's band frame (when both bands are known), then λ(x) with its standard uncertainty
+ * (applyProfileToPeaks; vacuum by Ciddor 1996 when asked). A spectrum that already has a wavelength axis is refused.
+ */
+function applyCalibration(run: SpectrumRun, calibration: { profile: InstrumentProfile; file: string }, vacuum: boolean): SpectrumRun {
+  const { analysis, spectrum } = run;
+  const { profile, file: profileFile } = calibration;
+  const file = analysis.input.file;
+  if (spectrum.wavelengthNm) {
+    throw new InputError(`${file}: this spectrum already has a wavelength axis; --calibration applies to photos and pixel-axis spectra`, file);
+  }
+  const image = analysis.input.kind === 'photo' ? { widthPx: analysis.input.widthPx!, heightPx: analysis.input.heightPx! } : null;
+  const band = analysis.band;
+  const applied = applyProfileToPeaks(analysis.peaks, profile, { image, band, source: file, vacuum });
+  const pos = Array.from(spectrum.positionPx);
+  const framePx = profile.band && band ? positionsInProfileFrame(pos, band, profile.band).positionsPx : pos;
+  const toMedium = (airNm: number): number => {
+    if (!vacuum) return airNm;
+    try {
+      return airToVacuumNm(airNm);
+    } catch {
+      return Number.NaN; // beyond the air-index formula's range; the peaks' warning says so
+    }
+  };
+  const wavelengthNm = Float64Array.from(framePx, (x) => toMedium(wavelengthAtNm(profile.model, x)));
+  return {
+    spectrum: { ...spectrum, wavelengthNm },
+    analysis: {
+      ...analysis,
+      peaks: applied.peaks,
+      calibration: {
+        profile: profileFile,
+        lamp: profile.lamp,
+        model: profile.model.kind,
+        medium: applied.medium,
+        rmsNm: profile.rmsNm,
+        rangeNm: profile.rangeNm,
+        ...(profile.linesPerMm !== undefined ? { linesPerMm: profile.linesPerMm } : {}),
+        extrapolatedPeaks: applied.peaks.filter((p) => p.extrapolated).length,
+      },
+      warnings: [...analysis.warnings, ...applied.warnings],
+    },
+  };
 }
 
 async function analyseCsv(file: string): Promise<SpectrumRun> {
@@ -279,6 +357,14 @@ export function formatSpectrumTable(a: SpectrumAnalysis): string {
     `spectrum: ${a.spectrum.samples} samples${a.spectrum.saturatedSamples ? `, ${a.spectrum.saturatedSamples} clipped` : ''}; ` +
       `noise σ ${fmt(a.spectrum.noise)}, detection threshold ${fmt(a.spectrum.threshold)}`,
   );
+  if (a.calibration) {
+    const c = a.calibration;
+    out.push(
+      `wavelengths (${c.medium}) from ${c.profile}: ${c.lamp} lamp, ${c.model} model, RMS ${c.rmsNm.toFixed(3)} nm, ` +
+        `calibrated ${c.rangeNm[0].toFixed(1)}–${c.rangeNm[1].toFixed(1)} nm` +
+        (c.extrapolatedPeaks ? `; ${c.extrapolatedPeaks} peak(s) beyond that range are extrapolated` : ''),
+    );
+  }
   const withWl = a.peaks.some((p) => p.wavelengthNm !== undefined);
   if (a.peaks.length === 0) {
     out.push('no peaks above the detection threshold');
@@ -288,11 +374,13 @@ export function formatSpectrumTable(a: SpectrumAnalysis): string {
   const rows = a.peaks.map((p, k) => [
     String(k + 1),
     `${p.positionPx.toFixed(2)} ± ${p.positionUncertaintyPx.toFixed(2)}`,
-    ...(withWl ? [p.wavelengthNm !== undefined ? `${p.wavelengthNm.toFixed(3)} ± ${(p.wavelengthUncertaintyNm ?? NaN).toFixed(3)}` : ''] : []),
+    ...(withWl ? [formatWavelength(p)] : []),
     p.fwhmPx.toFixed(2),
     fmt(p.height),
     p.snr >= 100 ? p.snr.toFixed(0) : p.snr.toFixed(1),
-    [p.saturated ? 'saturated' : '', p.blended ? 'blended' : ''].filter(Boolean).join(' '),
+    [p.saturated ? 'saturated' : '', p.blended ? 'blended' : '', (p as { extrapolated?: boolean }).extrapolated ? 'extrapolated' : '']
+      .filter(Boolean)
+      .join(' '),
   ]);
   const widths = header.map((h, c) => Math.max(h.length, ...rows.map((r) => r[c].length)));
   const line = (cells: string[]): string =>
@@ -301,8 +389,22 @@ export function formatSpectrumTable(a: SpectrumAnalysis): string {
       .join('  ')
       .trimEnd();
   out.push('', line(header), ...rows.map(line));
-  out.push('', `${a.peaks.length} peak${a.peaks.length === 1 ? '' : 's'}; positions along the band from its start, uncertainties 1σ`);
+  out.push(
+    '',
+    `${a.peaks.length} peak${a.peaks.length === 1 ? '' : 's'}; positions along the band from its start, uncertainties 1σ` +
+      (a.peaks.some((p) => p.wavelengthUncertaintyNm !== undefined && !Number.isFinite(p.wavelengthUncertaintyNm))
+        ? ' (? = an extrapolation this profile cannot bound)'
+        : ''),
+  );
   return out.join('\n') + '\n';
+}
+
+/** `λ ± u` in nm; an extrapolation the profile cannot bound shows its uncertainty as unknown. */
+function formatWavelength(p: Peak): string {
+  if (p.wavelengthNm === undefined) return '';
+  if (!Number.isFinite(p.wavelengthNm)) return 'n/a';
+  const u = p.wavelengthUncertaintyNm;
+  return `${p.wavelengthNm.toFixed(3)} ± ${u !== undefined && Number.isFinite(u) ? u.toFixed(3) : '?'}`;
 }
 
 function pm(u: number | null | undefined): string {

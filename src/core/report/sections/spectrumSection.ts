@@ -84,6 +84,18 @@ export function spectrumSection(json: unknown, options: SectionOptions): ResultS
     figures.push(['Line slant', deg(band.num('slant_deg'), band.optNum('slant_uncertainty_deg'))]);
     figures.push(['Band centre, size', `(${plain(c.num('x'), '', 5)}, ${plain(c.num('y'), '', 5)}) px; ${plain(band.num('length_px'), '', 4)} × ${plain(band.num('height_px'), '', 3)} px`]);
   }
+  const calibration = r.optObj('calibration');
+  if (calibration) {
+    const range = calibration.has('range_nm') ? calibration.numbers('range_nm') : [];
+    figures.push([
+      'Wavelength scale',
+      `${calibration.optStr('medium') ?? 'air'} wavelengths from profile ${baseName(calibration.optStr('profile') ?? '—')}` +
+        ` (${calibration.optStr('lamp') ?? '?'} lamp, ${calibration.optStr('model') ?? '?'} model, RMS ${plain(calibration.optNum('rms_nm'), 'nm', 2)}` +
+        (range.length === 2 ? `, calibrated ${range[0].toFixed(1)}–${range[1].toFixed(1)} nm` : '') +
+        ')' +
+        (calibration.optNum('extrapolated_peaks') ? `; ${count(calibration.num('extrapolated_peaks'), 'peak')} extrapolated beyond that range` : ''),
+    ]);
+  }
   if (summary) {
     figures.push(['Samples', `${summary.num('samples')}${summary.optNum('saturated_samples') ? `, ${summary.num('saturated_samples')} with clipped pixels` : ''}`]);
     if (summary.has('noise')) figures.push(['Noise (robust σ), detection threshold', `${plain(summary.num('noise'), '', 3)}, ${plain(summary.optNum('threshold'), '', 3)}`]);
