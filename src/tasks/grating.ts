@@ -51,68 +51,67 @@ export const GRATING_OPTION_DEFAULTS = { tolerance: '2%', angleReference: 'undev
 
 /** The grating measurement behind `glowprint grating` and the API, with options as the command takes them (text). */
 export async function runGrating(opts: GratingOptions): Promise<{ json: Record<string, unknown>; text: string; warnings: string[] }> {
-        let positions: OrderValue[] | undefined;
-        let separations: OrderValue[] | undefined;
-        let angleList: OrderValue[] | undefined;
-        if (opts.profile !== undefined) {
-          if (opts.table !== undefined || opts.positions !== undefined || opts.separations !== undefined || opts.angles !== undefined) {
-            usage('--profile is a method of its own: give it without --table, --positions, --separations or --angles');
-          }
-          return gratingFromProfile(opts);
-        }
-        if (opts.table !== undefined) {
-          if (opts.positions !== undefined || opts.separations !== undefined || opts.angles !== undefined) {
-            usage('give the measurements either in --table or on the command line, not both');
-          }
-          const table = ordersFromTable(parseNumericCsv(await readFile(opts.table, 'utf8'), { source: opts.table, minColumns: 2 }), opts.table);
-          if (table.kind === 'position') positions = table.items;
-          else if (table.kind === 'separation') separations = table.items;
-          else angleList = table.items;
-        } else {
-          if (opts.positions !== undefined) positions = parseOrderList(opts.positions, { name: '--positions', unit: 'mm' });
-          if (opts.separations !== undefined) separations = parseOrderList(opts.separations, { name: '--separations', unit: 'mm' });
-          if (opts.angles !== undefined) angleList = parseOrderList(opts.angles, { name: '--angles', unit: 'deg' });
-        }
-        const screen = positions !== undefined || separations !== undefined;
-        if (screen === (angleList !== undefined)) {
-          usage('give either --positions/--separations (with --distance), --angles, or --table');
-        }
-        if (opts.wavelength === undefined) usage('--wavelength is required');
-        const wavelengthNm = parseQuantity(opts.wavelength!, { name: '--wavelength', unit: 'nm', positive: true });
-        const wavelengthUncertaintyNm = optionalQuantity(opts.wavelengthUncertainty, '--wavelength-uncertainty', 'nm');
-        const incidenceDeg = optionalQuantity(opts.incidence, '--incidence', 'deg', false);
-        let measurement: GratingMeasurement;
-        let distanceMm: number | undefined;
-        if (screen) {
-          if (opts.distance === undefined) usage('the screen method needs --distance');
-          distanceMm = parseQuantity(opts.distance!, { name: '--distance', unit: 'mm' });
-          if (!(distanceMm > 0)) throw new InputError(`--distance: expected the grating-to-screen distance (a positive length), got ${JSON.stringify(opts.distance)}`, '--distance');
-          measurement = fitScreen({
-            wavelengthNm,
-            wavelengthUncertaintyNm,
-            distanceMm,
-            distanceUncertaintyMm: optionalQuantity(opts.distanceUncertainty, '--distance-uncertainty', 'mm'),
-            positionUncertaintyMm: optionalQuantity(opts.positionUncertainty, '--position-uncertainty', 'mm', true),
-            positions: (positions ?? []).map((p) => ({ order: p.order, positionMm: p.value, uncertaintyMm: p.uncertainty })),
-            separations: (separations ?? []).map((s) => ({ order: s.order, separationMm: s.value, uncertaintyMm: s.uncertainty })),
-            incidenceDeg,
-          });
-        } else {
-          const reference = opts.angleReference;
-          if (reference !== 'undeviated' && reference !== 'normal') {
-            throw new InputError(`--angle-reference: expected "undeviated" or "normal", got ${JSON.stringify(reference)}`, '--angle-reference');
-          }
-          measurement = fitAngles({
-            wavelengthNm,
-            wavelengthUncertaintyNm,
-            angles: angleList!.map((a) => ({ order: a.order, angleDeg: a.value, uncertaintyDeg: a.uncertainty })),
-            angleUncertaintyDeg: optionalQuantity(opts.angleUncertainty, '--angle-uncertainty', 'deg', true),
-            reference,
-            incidenceDeg,
-          });
-        }
-        return finish(measurement, opts, wavelengthNm, distanceMm);
-
+  let positions: OrderValue[] | undefined;
+  let separations: OrderValue[] | undefined;
+  let angleList: OrderValue[] | undefined;
+  if (opts.profile !== undefined) {
+    if (opts.table !== undefined || opts.positions !== undefined || opts.separations !== undefined || opts.angles !== undefined) {
+      usage('--profile is a method of its own: give it without --table, --positions, --separations or --angles');
+    }
+    return gratingFromProfile(opts);
+  }
+  if (opts.table !== undefined) {
+    if (opts.positions !== undefined || opts.separations !== undefined || opts.angles !== undefined) {
+      usage('give the measurements either in --table or on the command line, not both');
+    }
+    const table = ordersFromTable(parseNumericCsv(await readFile(opts.table, 'utf8'), { source: opts.table, minColumns: 2 }), opts.table);
+    if (table.kind === 'position') positions = table.items;
+    else if (table.kind === 'separation') separations = table.items;
+    else angleList = table.items;
+  } else {
+    if (opts.positions !== undefined) positions = parseOrderList(opts.positions, { name: '--positions', unit: 'mm' });
+    if (opts.separations !== undefined) separations = parseOrderList(opts.separations, { name: '--separations', unit: 'mm' });
+    if (opts.angles !== undefined) angleList = parseOrderList(opts.angles, { name: '--angles', unit: 'deg' });
+  }
+  const screen = positions !== undefined || separations !== undefined;
+  if (screen === (angleList !== undefined)) {
+    usage('give either --positions/--separations (with --distance), --angles, or --table');
+  }
+  if (opts.wavelength === undefined) usage('--wavelength is required');
+  const wavelengthNm = parseQuantity(opts.wavelength!, { name: '--wavelength', unit: 'nm', positive: true });
+  const wavelengthUncertaintyNm = optionalQuantity(opts.wavelengthUncertainty, '--wavelength-uncertainty', 'nm');
+  const incidenceDeg = optionalQuantity(opts.incidence, '--incidence', 'deg', false);
+  let measurement: GratingMeasurement;
+  let distanceMm: number | undefined;
+  if (screen) {
+    if (opts.distance === undefined) usage('the screen method needs --distance');
+    distanceMm = parseQuantity(opts.distance!, { name: '--distance', unit: 'mm' });
+    if (!(distanceMm > 0)) throw new InputError(`--distance: expected the grating-to-screen distance (a positive length), got ${JSON.stringify(opts.distance)}`, '--distance');
+    measurement = fitScreen({
+      wavelengthNm,
+      wavelengthUncertaintyNm,
+      distanceMm,
+      distanceUncertaintyMm: optionalQuantity(opts.distanceUncertainty, '--distance-uncertainty', 'mm'),
+      positionUncertaintyMm: optionalQuantity(opts.positionUncertainty, '--position-uncertainty', 'mm', true),
+      positions: (positions ?? []).map((p) => ({ order: p.order, positionMm: p.value, uncertaintyMm: p.uncertainty })),
+      separations: (separations ?? []).map((s) => ({ order: s.order, separationMm: s.value, uncertaintyMm: s.uncertainty })),
+      incidenceDeg,
+    });
+  } else {
+    const reference = opts.angleReference;
+    if (reference !== 'undeviated' && reference !== 'normal') {
+      throw new InputError(`--angle-reference: expected "undeviated" or "normal", got ${JSON.stringify(reference)}`, '--angle-reference');
+    }
+    measurement = fitAngles({
+      wavelengthNm,
+      wavelengthUncertaintyNm,
+      angles: angleList!.map((a) => ({ order: a.order, angleDeg: a.value, uncertaintyDeg: a.uncertainty })),
+      angleUncertaintyDeg: optionalQuantity(opts.angleUncertainty, '--angle-uncertainty', 'deg', true),
+      reference,
+      incidenceDeg,
+    });
+  }
+  return finish(measurement, opts, wavelengthNm, distanceMm);
 }
 
 function optionalQuantity(text: string | undefined, name: string, unit: string, positive = false): number | undefined {
@@ -168,6 +167,13 @@ async function gratingFromProfile(opts: GratingOptions): Promise<{ json: Record<
   return finish(measurement, opts, wavelengthNm, undefined);
 }
 
+/** Where the measurements came from: the table or profile file, or the command line. */
+function inputSummary(opts: GratingOptions): { file: string | null; kind: 'table' | 'profile' | 'command-line' } {
+  if (opts.profile !== undefined) return { file: opts.profile, kind: 'profile' };
+  if (opts.table !== undefined) return { file: opts.table, kind: 'table' };
+  return { file: null, kind: 'command-line' };
+}
+
 /** Verdict against the nominal, derived figures, and the outputs: the same for every method. */
 function finish(
   measurement: GratingMeasurement,
@@ -175,7 +181,7 @@ function finish(
   wavelengthNm: number,
   distanceMm: number | undefined,
 ): { json: Record<string, unknown>; text: string; warnings: string[] } {
-        let verdict: GratingVerdict | null = null;
+  let verdict: GratingVerdict | null = null;
   if (opts.nominal !== undefined) {
     const nominal = Number(opts.nominal.replace(/\s*(lines?\/mm|l\/mm|\/mm)$/, ''));
     if (!(nominal > 0) || !Number.isFinite(nominal)) throw new InputError(`--nominal: expected a line density in lines/mm such as 600, got ${JSON.stringify(opts.nominal)}`, '--nominal');
@@ -196,6 +202,7 @@ function finish(
   });
   const json = {
     command: 'grating',
+    input: inputSummary(opts),
     ...measurement,
     verdict: verdict?.verdict ?? null,
     verdictDetail: verdict,

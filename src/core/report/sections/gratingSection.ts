@@ -30,7 +30,8 @@ export function gratingSection(json: unknown, options: SectionOptions): ResultSe
   const lpmmU = r.optNum('lines_per_mm_uncertainty');
   const detail = r.optObj('verdict_detail');
   const verdictKey = r.optStr('verdict');
-  const item = options.source ? baseName(options.source) : `grating (${method || 'line density'})`;
+  const inputFile = r.optObj('input')?.optStr('file');
+  const item = inputFile ? baseName(inputFile) : options.source ? baseName(options.source) : `grating (${method || 'line density'})`;
   const density = withU(lpmm, lpmmU, 'lines/mm');
 
   let verdict = `${density}`;
