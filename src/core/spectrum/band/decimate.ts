@@ -3,8 +3,8 @@
  * blocks at the right and bottom edges average what they hold). Block (X, Y) is centred on full-resolution point
  * (f·X + (f − 1)/2, f·Y + (f − 1)/2) for whole blocks. For f ≥ 4 only every second row and column of a block is read,
  * for f ≥ 6 every third (a ninth of a 12-MP photo): the coarse search needs the band's shape, not its last photon, and
- * a line image of FWHM ≥ 2 px still leaves a third of its peak or more in the samples nearest it. One pass, reading codes through the table when the decoder kept them (the photo
- * is never expanded to Float32 for this).
+ * a line image of FWHM ≥ 2 px still leaves a third of its peak or more in the samples nearest it. One pass, reading
+ * codes through the table when the decoder kept them (the photo is never expanded to Float32 for this).
  */
 import type { LinearImage } from '../../types.js';
 import { type PixelAccess, pixelAccess } from './pixels.js';
@@ -28,107 +28,121 @@ export function decimate(image: LinearImage, factor: number, saturationLevel: nu
   const C = px.channels;
   const planes = Array.from({ length: C }, () => new Float32Array(w * h));
   const clipped = new Float32Array(w * h);
-  const count = new Float32Array(w * h);
-  const column = new Int32Array(px.width);
-  for (let x = 0; x < px.width; x++) column[x] = Math.floor(x / f);
+  // Sampled columns are x = 0, stride, 2·stride, …; block X holds those in [f·X, f·X + f). Its first sampled column
+  // and its count are fixed, so the row loops sum block by block in registers and the counts are computed, not summed.
+  const firstX = new Int32Array(w + 1);
+  for (let X = 0; X <= w; X++) firstX[X] = Math.min(px.width, Math.ceil((X * f) / stride) * stride);
+  const fast = C === 3 && px.codeToLinear !== null && (px.clipCode & (px.clipCode + 1)) === 0;
   for (let y = 0; y < px.height; y += stride) {
     const rowOut = Math.floor(y / f) * w;
-    if (C === 3) {
-      if (px.codeToLinear) rowCodes3(px, y, stride, rowOut, column, planes, clipped, count);
-      else rowLinear3(px, y, stride, rowOut, column, planes, clipped, count);
-    } else rowGrey(px, y, stride, rowOut, column, planes[0], clipped, count);
+    if (fast) rowCodes3(px, y, stride, rowOut, firstX, w, planes, clipped);
+    else rowGeneral(px, y, stride, rowOut, firstX, w, planes, clipped);
   }
-  for (let k = 0; k < w * h; k++) {
-    const n = count[k];
-    if (n === 0) continue;
-    for (let c = 0; c < C; c++) planes[c][k] /= n;
-    clipped[k] /= n;
-  }
+  normalise(planes, clipped, sampledCounts(px.width, px.height, f, stride, w, h), w, h);
   return { width: w, height: h, factor: f, planes, clipped };
 }
 
+/** Pixels read per block: (sampled rows in block row Y) × (sampled columns in block column X). */
+function sampledCounts(width: number, height: number, f: number, stride: number, w: number, h: number): Float32Array {
+  const along = (n: number, X: number): number => {
+    const a = Math.ceil((X * f) / stride) * stride;
+    const b = Math.min(n, (X + 1) * f);
+    return b > a ? Math.floor((b - 1 - a) / stride) + 1 : 0;
+  };
+  const cols = new Float32Array(w);
+  for (let X = 0; X < w; X++) cols[X] = along(width, X);
+  const count = new Float32Array(w * h);
+  for (let Y = 0; Y < h; Y++) {
+    const rows = along(height, Y);
+    for (let X = 0; X < w; X++) count[Y * w + X] = rows * cols[X];
+  }
+  return count;
+}
+
+function normalise(planes: Float32Array[], clipped: Float32Array, count: Float32Array, w: number, h: number): void {
+  for (const plane of planes) divideBy(plane, count, w * h);
+  divideBy(clipped, count, w * h);
+}
+
+function divideBy(values: Float32Array, count: Float32Array, n: number): void {
+  for (let k = 0; k < n; k++) if (count[k] > 0) values[k] /= count[k];
+}
+
+/**
+ * One sampled row of an RGB photo held as codes. Clipping by one bit test: the code tables have 2^n entries, so for
+ * codes ≤ clip = 2^n − 1, (c + 1) has bit n set exactly when c === clip, and OR-ing the (c + 1) of the three channels
+ * tests them together; (t >>> n) is then 1 for a clipped pixel, else 0.
+ */
 function rowCodes3(
   px: PixelAccess,
   y: number,
   stride: number,
   rowOut: number,
-  column: Int32Array,
+  firstX: Int32Array,
+  w: number,
   planes: Float32Array[],
   clipped: Float32Array,
-  count: Float32Array,
 ): void {
-  const W = px.width;
   const codes = px.values as Uint8Array | Uint16Array;
   const lut = px.codeToLinear as Float32Array;
-  const clip = px.clipCode;
+  const shift = Math.round(Math.log2(px.clipCode + 1));
   const [r, g, b] = planes;
-  for (let x = 0, a = y * W * 3; x < W; x += stride, a += 3 * stride) {
-    const k = rowOut + column[x];
-    const cr = codes[a];
-    const cg = codes[a + 1];
-    const cb = codes[a + 2];
-    r[k] += lut[cr];
-    g[k] += lut[cg];
-    b[k] += lut[cb];
-    count[k] += 1;
-    if (cr === clip || cg === clip || cb === clip) clipped[k] += 1;
+  const row = y * px.width * 3;
+  const step = 3 * stride;
+  for (let X = 0; X < w; X++) {
+    const k = rowOut + X;
+    // Running sums rounded to Float32 after every pixel, as the planes would round them: the same sums to the bit.
+    let sr = r[k];
+    let sg = g[k];
+    let sb = b[k];
+    let nc = 0;
+    for (let a = row + 3 * firstX[X], e = row + 3 * firstX[X + 1]; a < e; a += step) {
+      const cr = codes[a];
+      const cg = codes[a + 1];
+      const cb = codes[a + 2];
+      sr = Math.fround(sr + lut[cr]);
+      sg = Math.fround(sg + lut[cg]);
+      sb = Math.fround(sb + lut[cb]);
+      nc += ((cr + 1) | (cg + 1) | (cb + 1)) >>> shift;
+    }
+    r[k] = sr;
+    g[k] = sg;
+    b[k] = sb;
+    clipped[k] += nc;
   }
 }
 
-function rowLinear3(
+/** One sampled row of any other photo: grey or RGB, codes through their table or linear values (with or without flags). */
+function rowGeneral(
   px: PixelAccess,
   y: number,
   stride: number,
   rowOut: number,
-  column: Int32Array,
+  firstX: Int32Array,
+  w: number,
   planes: Float32Array[],
   clipped: Float32Array,
-  count: Float32Array,
 ): void {
-  const W = px.width;
-  const data = px.values as Float32Array;
-  const flags = px.saturatedFlags;
-  const level = px.saturationLevel;
-  const [r, g, b] = planes;
-  for (let x = 0, a = y * W * 3; x < W; x += stride, a += 3 * stride) {
-    const k = rowOut + column[x];
-    const vr = data[a];
-    const vg = data[a + 1];
-    const vb = data[a + 2];
-    r[k] += vr;
-    g[k] += vg;
-    b[k] += vb;
-    count[k] += 1;
-    if (flags ? flags[y * W + x] : vr >= level || vg >= level || vb >= level) clipped[k] += 1;
-  }
-}
-
-function rowGrey(
-  px: PixelAccess,
-  y: number,
-  stride: number,
-  rowOut: number,
-  column: Int32Array,
-  plane: Float32Array,
-  clipped: Float32Array,
-  count: Float32Array,
-): void {
+  const C = px.channels;
   const W = px.width;
   const lut = px.codeToLinear;
-  for (let x = 0, a = y * W; x < W; x += stride, a += stride) {
-    const k = rowOut + column[x];
-    let v: number;
-    let sat: boolean;
-    if (lut) {
-      const code = (px.values as Uint8Array | Uint16Array)[a];
-      v = lut[code];
-      sat = code === px.clipCode;
-    } else {
-      v = (px.values as Float32Array)[a];
-      sat = px.saturatedFlags ? px.saturatedFlags[a] === 1 : v >= px.saturationLevel;
+  const values = px.values;
+  const flags = px.saturatedFlags;
+  const level = px.saturationLevel;
+  const clip = px.clipCode;
+  for (let X = 0; X < w; X++) {
+    const k = rowOut + X;
+    for (let x = firstX[X]; x < firstX[X + 1]; x += stride) {
+      const p = y * W + x;
+      let sat = false;
+      for (let c = 0; c < C; c++) {
+        const raw = values[p * C + c];
+        const v = lut ? lut[raw] : raw;
+        planes[c][k] += v;
+        if (lut ? raw === clip : flags === null && v >= level) sat = true;
+      }
+      if (flags !== null && flags[p]) sat = true;
+      if (sat) clipped[k] += 1;
     }
-    plane[k] += v;
-    count[k] += 1;
-    if (sat) clipped[k] += 1;
   }
 }

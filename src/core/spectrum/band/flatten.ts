@@ -98,30 +98,42 @@ function median(values: number[]): number {
   return s.length === 0 ? 0 : s.length % 2 ? s[m] : 0.5 * (s[m - 1] + s[m]);
 }
 
-/** 3 × 3 box mean (edges: the mean of what the window holds). */
+/**
+ * 3 × 3 box mean (edges: the mean of what the window holds). Separable, both passes row by row (the vertical pass
+ * reads three rows side by side instead of walking down columns); the sums are added in the same order as a window
+ * loop would add them, so the values are the same to the bit.
+ */
 export function boxMean3(plane: Float32Array, width: number, height: number): Float32Array {
   const tmp = new Float32Array(width * height);
   const out = new Float32Array(width * height);
-  for (let y = 0; y < height; y++) {
-    const r = y * width;
-    for (let x = 0; x < width; x++) {
-      const a = x > 0 ? x - 1 : 0;
-      const b = x < width - 1 ? x + 1 : width - 1;
-      let s = 0;
-      for (let i = a; i <= b; i++) s += plane[r + i];
-      tmp[r + x] = s / (b - a + 1);
-    }
-  }
-  for (let y = 0; y < height; y++) {
-    const a = y > 0 ? y - 1 : 0;
-    const b = y < height - 1 ? y + 1 : height - 1;
-    for (let x = 0; x < width; x++) {
-      let s = 0;
-      for (let i = a; i <= b; i++) s += tmp[i * width + x];
-      out[y * width + x] = s / (b - a + 1);
-    }
-  }
+  for (let y = 0; y < height; y++) boxRow3(plane, tmp, y * width, width);
+  for (let y = 0; y < height; y++) boxColumns3(tmp, out, y, width, height);
   return out;
+}
+
+function boxRow3(src: Float32Array, dst: Float32Array, r: number, width: number): void {
+  if (width < 3) {
+    for (let x = 0; x < width; x++) dst[r + x] = width === 1 ? src[r] : (src[r] + src[r + 1]) / 2;
+    return;
+  }
+  dst[r] = (src[r] + src[r + 1]) / 2;
+  for (let x = 1; x < width - 1; x++) dst[r + x] = (src[r + x - 1] + src[r + x] + src[r + x + 1]) / 3;
+  dst[r + width - 1] = (src[r + width - 2] + src[r + width - 1]) / 2;
+}
+
+function boxColumns3(src: Float32Array, dst: Float32Array, y: number, width: number, height: number): void {
+  const a = y > 0 ? y - 1 : 0;
+  const b = y < height - 1 ? y + 1 : height - 1;
+  const r = y * width;
+  const ra = a * width;
+  const rb = b * width;
+  if (b - a === 2) {
+    for (let x = 0; x < width; x++) dst[r + x] = (src[ra + x] + src[r + x] + src[rb + x]) / 3;
+  } else if (b - a === 1) {
+    for (let x = 0; x < width; x++) dst[r + x] = (src[ra + x] + src[rb + x]) / 2;
+  } else {
+    for (let x = 0; x < width; x++) dst[r + x] = src[r + x];
+  }
 }
 
 /** Robust σ of a mostly-empty image: 1.4826 · MAD about the median, from a subsample of at most ~60 000 pixels. */
@@ -137,28 +149,51 @@ export function imageSigma(plane: Float32Array): { median: number; sigma: number
 
 /**
  * Detail layer: the image minus its box mean over (2r + 1)², edges by the mean of what the window holds. Smooth glare
- * and halos vanish from it; line images, the band's edges and compact spots stay. O(pixels) by running sums.
+ * and halos vanish from it; line images, the band's edges and compact spots stay. O(pixels) by running sums: a prefix
+ * sum along each row, then prefix sums down all columns at once, kept row by row (a walk down each column in turn
+ * would touch a new cache line at every step).
  */
 export function detailLayer(plane: Float32Array, width: number, height: number, r: number): Float32Array {
   const tmp = new Float32Array(width * height);
-  const prefix = new Float64Array(Math.max(width, height) + 1);
-  for (let y = 0; y < height; y++) {
-    const row = y * width;
-    for (let x = 0; x < width; x++) prefix[x + 1] = prefix[x] + plane[row + x];
-    for (let x = 0; x < width; x++) {
-      const a = Math.max(0, x - r);
-      const b = Math.min(width, x + r + 1);
-      tmp[row + x] = (prefix[b] - prefix[a]) / (b - a);
-    }
-  }
+  const prefix = new Float64Array(width + 1);
+  for (let y = 0; y < height; y++) rowWindowMean(plane, tmp, prefix, y * width, width, r);
+  // columnPrefix[(y + 1)·width + x] = Σ tmp over rows 0…y of column x.
+  const columnPrefix = new Float64Array((height + 1) * width);
+  for (let y = 0; y < height; y++) addRow(columnPrefix, tmp, y, width);
   const out = new Float32Array(width * height);
-  for (let x = 0; x < width; x++) {
-    for (let y = 0; y < height; y++) prefix[y + 1] = prefix[y] + tmp[y * width + x];
-    for (let y = 0; y < height; y++) {
-      const a = Math.max(0, y - r);
-      const b = Math.min(height, y + r + 1);
-      out[y * width + x] = plane[y * width + x] - (prefix[b] - prefix[a]) / (b - a);
-    }
-  }
+  for (let y = 0; y < height; y++) subtractColumnWindowMean(plane, columnPrefix, out, y, width, height, r);
   return out;
+}
+
+function rowWindowMean(plane: Float32Array, tmp: Float32Array, prefix: Float64Array, row: number, width: number, r: number): void {
+  for (let x = 0; x < width; x++) prefix[x + 1] = prefix[x] + plane[row + x];
+  for (let x = 0; x < width; x++) {
+    const a = Math.max(0, x - r);
+    const b = Math.min(width, x + r + 1);
+    tmp[row + x] = (prefix[b] - prefix[a]) / (b - a);
+  }
+}
+
+function addRow(columnPrefix: Float64Array, tmp: Float32Array, y: number, width: number): void {
+  const from = y * width;
+  const to = from + width;
+  for (let x = 0; x < width; x++) columnPrefix[to + x] = columnPrefix[from + x] + tmp[from + x];
+}
+
+function subtractColumnWindowMean(
+  plane: Float32Array,
+  columnPrefix: Float64Array,
+  out: Float32Array,
+  y: number,
+  width: number,
+  height: number,
+  r: number,
+): void {
+  const a = Math.max(0, y - r);
+  const b = Math.min(height, y + r + 1);
+  const pa = a * width;
+  const pb = b * width;
+  const n = b - a;
+  const row = y * width;
+  for (let x = 0; x < width; x++) out[row + x] = plane[row + x] - (columnPrefix[pb + x] - columnPrefix[pa + x]) / n;
 }
