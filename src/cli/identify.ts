@@ -1,12 +1,13 @@
-import cliProgress from 'cli-progress';
 import type { Command } from 'commander';
 import path from 'node:path';
 import { InputError } from '../core/errors.js';
 import { SELF_CALIBRATION_LAMPS } from '../core/identify/identifySelfCalibrated.js';
 import { HIGH_VOLTAGE_CAUTION, LASER_CAUTION, UV_CAUTION } from '../core/safety.js';
 import { readProfile } from '../io/profileFile.js';
-import { writeFileAtomic } from '../io/writeAtomic.js';
-import { formatIdentification, identificationJson, identificationSvg, identifyFile, identifyLines, svgTarget, type IdentifyFileResult } from '../tasks/identify.js';
+import type { IdentifyJob } from '../tasks/batch/jobs.js';
+import { batchProgress } from '../tasks/batch/progress.js';
+import { itemJson, parseWorkers, runBatch } from '../tasks/batch/runBatch.js';
+import { identifyLines, svgTarget } from '../tasks/identify.js';
 import { action, note, printJson } from './run.js';
 
 interface IdentifyCliOptions {
@@ -16,6 +17,9 @@ interface IdentifyCliOptions {
   elements?: string;
   lineList?: string;
   bands?: boolean;
+  workers?: string;
+  summary?: string;
+  report?: string;
 }
 
 const HELP_AFTER = `
@@ -29,9 +33,13 @@ Output: for each species a score (0–1, the probability that it contributes lin
 present yes/no, the lines matched and its share of the line flux; every peak with its wavelength ± uncertainty and
 the line it is (or none); the bright peaks no species explains (a contaminant, molecular bands, stray light); a
 laser line with the laser kinds it may be. N2 band heads take part as a molecular candidate (--no-bands to leave
-them out). Several inputs: one result each (--json prints {"results": [...], "warnings": [...]}); a file that
-cannot be read is reported and the others go on. --svg writes the spectrum with the lines labelled (for several
-inputs, one file each: out-<input>.svg).
+them out). --svg writes the spectrum with the lines labelled (for several inputs, one file each: out-<input>.svg).
+
+Batch (several inputs, e.g. photos/*.jpg): one result each, in the order given (--json prints {"results": [...],
+"warnings": [...]}), measured by worker threads across the cores (--workers N; 1 runs them one after another), with
+the same answers whatever the worker count. A file that fails is reported with its error and the others go on.
+--summary writes one CSV row per input; --report writes an HTML report of them all. A progress bar shows on a
+terminal. Exit code: 0 when every input was identified, 1 when any failed (after the others have been processed).
 
 Safety:
   ${HIGH_VOLTAGE_CAUTION}
@@ -50,6 +58,9 @@ export function registerIdentify(program: Command): void {
     .option('--elements <list>', 'consider only these species, e.g. "Ne,Ar,Hg" (N2 for the molecular bands)')
     .option('--line-list <file>', 'identify with this line list (NIST ASD export or CSV of wavelength_nm,intensity,spectrum) instead of the project\'s')
     .option('--no-bands', 'leave the N2 molecular band heads out of the candidates')
+    .option('--summary <file.csv>', 'write the batch summary as CSV: one row per input (file, status, species, key figures, error)')
+    .option('--report <folder>', 'write the HTML report of all inputs into this folder (index.html, and summary.csv unless --summary says where)')
+    .option('--workers <n>', 'worker threads for several inputs (default: one per core, at most one per input; 1 = one after another in this process)')
     .addHelpText('after', HELP_AFTER)
     .action(
       action(async (inputs: string[], opts: IdentifyCliOptions) => {
@@ -61,39 +72,30 @@ export function registerIdentify(program: Command): void {
         if (opts.svg && readFiles.some((f) => inputs.some((i) => path.resolve(svgTarget(opts.svg!, i, several)) === path.resolve(f)))) {
           throw new InputError(`${opts.svg}: refusing to write over an input file; choose another output name`, opts.svg);
         }
-        const bar =
-          several && process.stderr.isTTY
-            ? new cliProgress.SingleBar({ format: 'identify [{bar}] {value}/{total} {file}', stream: process.stderr, clearOnComplete: true, hideCursor: true }, cliProgress.Presets.shades_classic)
-            : null;
-        bar?.start(inputs.length, 0, { file: '' });
-        const results: Array<IdentifyFileResult | { file: string; error: string }> = [];
-        for (const file of inputs) {
-          bar?.update({ file: path.basename(file) });
-          try {
-            const r = await identifyFile(file, { profile, lines });
-            if (opts.svg) {
-              await writeFileAtomic(svgTarget(opts.svg, file, several), identificationSvg(r), { inputs: readFiles });
-            }
-            results.push(r);
-          } catch (e) {
-            // One bad file in a batch is reported and the rest go on; alone, it is the command's error.
-            if (!several || !(e instanceof InputError)) throw e;
-            results.push({ file, error: e.message });
-          } finally {
-            bar?.increment();
-          }
-        }
-        bar?.stop();
-        const failed = results.filter((r): r is { file: string; error: string } => 'error' in r);
+        const progress = batchProgress('identify', inputs.length);
+        const job: IdentifyJob = { command: 'identify', profile, lines, svg: opts.svg, several, readFiles };
+        const batch = await runBatch(inputs, job, {
+          workers: parseWorkers(opts.workers),
+          summaryFile: opts.summary,
+          reportDir: opts.report,
+          readFiles,
+          onSettled: progress.onSettled,
+          // Alone, a file's error is the command's error.
+          rethrow: !several,
+        }).finally(progress.stop);
+        const failed = batch.items.filter((r) => r.status === 'failed');
         for (const f of failed) warnings.push(`${f.file}: ${f.error}`);
         if (opts.json) {
-          const json = results.map((r) => ('error' in r ? { file: r.file, error: r.error } : identificationJson(r)));
+          const json = batch.items.map((r) => itemJson('identify', r));
           printJson(several ? { command: 'identify', results: json, warnings } : { ...json[0], warnings: [...warnings, ...((json[0] as { warnings: string[] }).warnings ?? [])] });
         } else {
-          for (const r of results) process.stdout.write('error' in r ? `${r.file}: not identified: ${r.error}\n` : formatIdentification(r));
-          for (const r of results) if (!('error' in r)) for (const w of r.warnings) note(`glowprint: warning: ${path.basename(r.file)}: ${w}`);
+          for (const r of batch.items) process.stdout.write(r.status === 'failed' ? `${r.file}: not identified: ${r.error}\n` : r.result.text);
+          for (const r of batch.items) if (r.status === 'ok') for (const w of r.result.warnings) note(`glowprint: warning: ${path.basename(r.file)}: ${w}`);
           for (const w of warnings) note(`glowprint: warning: ${w}`);
         }
+        if (several) note(`glowprint: ${inputs.length - failed.length} of ${inputs.length} files identified${failed.length ? `, ${failed.length} failed` : ''}`);
+        if (batch.summaryFile) note(`glowprint: summary written to ${batch.summaryFile}`);
+        if (batch.reportFile) note(`glowprint: report written to ${batch.reportFile}`);
         if (failed.length > 0) process.exitCode = 1;
       }),
     );
