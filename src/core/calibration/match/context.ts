@@ -44,6 +44,8 @@ export interface SearchSettings {
   maxGrown: number;
   tolerancePx: [number, number];
   colour: ColourPriorOptions;
+  /** How matches count as evidence (see scoreSolution). */
+  evidence?: 'tolerance' | 'windows';
 }
 
 export interface Ctx {

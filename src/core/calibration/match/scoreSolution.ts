@@ -7,7 +7,7 @@
  */
 import { dispersionAtNmPerPx, wavelengthAtNm, type DispersionModel } from '../model.js';
 import { log10BinomialTail } from '../significance.js';
-import { type Ctx, lineSigmaNm, lowerBound, median } from './context.js';
+import { type Ctx, lineSigmaNm, lowerBound, median, sigmaOf } from './context.js';
 import type { GrownSolution } from './growSolution.js';
 import { rmsPx } from './quickFit.js';
 
@@ -61,6 +61,8 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
   // Reference uncertainty of a typical lamp line in the covered range, for peaks that matched nothing.
   const sigmas = ctx.L.filter((l) => l.wavelengthNm >= covLo && l.wavelengthNm <= covHi).map((l) => l.sigmaNm);
   const typicalSigmaNm = sigmas.length ? median(sigmas) : 0;
+  // The counts within windows of a few standard deviations (see SIGMA_WINDOWS), when asked for.
+  const windows = ctx.o.evidence === 'windows' ? SIGMA_WINDOWS.map(() => ({ hits: 0, pSum: 0, n: 0 })) : null;
   let inRange = 0;
   let matched = 0;
   let manualPeaks = 0;
@@ -87,13 +89,35 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
       matched++;
       if (pair.manual) manualPeaks++;
     }
+    // A blended peak's centroid lies between its lines, where no σ-window applies: it takes no part in those counts.
+    if (windows && !pair?.manual && !P[q].blended) {
+      // σ of a peak's position against its line (nm): its centroid's and the line's reference uncertainty.
+      const sigmaNm = Math.hypot((pair ? sigmaOf(ctx, pair) : P[q].sigma) * disp, pair ? lineSigmaNm(ctx, pair) : typicalSigmaNm);
+      const offNm = pair ? Math.abs(pair.lambda - wavelengthAtNm(model, px[q])) : Infinity;
+      SIGMA_WINDOWS.forEach((k, w) => {
+        const win = windows[w];
+        win.n++;
+        win.pSum += Math.min(1, (2 * k * sigmaNm * Math.max(lines, 1)) / covWidth);
+        if (offNm <= k * sigmaNm) win.hits++;
+      });
+    }
   }
   const pChance = inRange ? pSum / inRange : 1;
   // Manual pairs are given, not found; the model's parameters are fitted to as many matches: neither is evidence.
   const free = Math.max(0, parameters - manualPeaks);
   const mEff = matched - manualPeaks - free;
   const nEff = Math.max(inRange - manualPeaks - free, 0);
-  const log10Chance = mEff <= 0 ? 0 : log10BinomialTail(mEff, nEff, pChance);
+  let log10Chance = mEff <= 0 ? 0 : log10BinomialTail(mEff, nEff, pChance);
+  if (windows && mEff > 0) {
+    // The same binomial count with each peak's window set by its own uncertainty: a true scale puts its peaks within
+    // a few σ of their lines, where a random one is no likelier to than the window's share of the range. The best
+    // of the counts decides, at (number of counts) times its chance: Bonferroni's bound for having looked at each.
+    for (const win of windows) {
+      const m = win.hits - free;
+      if (m > 0) log10Chance = Math.min(log10Chance, log10BinomialTail(m, Math.max(win.n - free, 0), win.pSum / win.n));
+    }
+    log10Chance = Math.min(0, log10Chance + Math.log10(windows.length + 1));
+  }
   return {
     matched,
     peaksInRange: inRange,
@@ -108,6 +132,12 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
     model: model.kind,
   };
 }
+
+/**
+ * Windows (in standard deviations of each peak's position against its line) of the uncertainty-based counts; their
+ * widths are fixed before any data are seen, so each count is an exact binomial test (common practice, no source).
+ */
+const SIGMA_WINDOWS = [1.5, 2, 3];
 
 /**
  * How many distinct scale hypotheses the search could have produced: pairs of peaks able to count as evidence times
