@@ -66,13 +66,7 @@ function crossProfileOnce(image: LinearImage, band: BandGeometry, halfWidthPx: n
   const plane = s.planes[0];
   const core = Math.max(1, band.heightPx / 2);
   const flux = new Float64Array(N);
-  for (let i = 0; i < N; i++) {
-    let f = 0;
-    for (let j = 0, k = i * R; j < R; j++, k++) {
-      if (s.valid[k] && Math.abs(q[j]) <= core) f += plane[k] - (bg.base[i] + q[j] * bg.slope[i]);
-    }
-    flux[i] = f;
-  }
+  coreFluxes(plane, s.valid, bg.base, bg.slope, q, N, R, core, flux);
   // The median over the bright columns of each column's normalised profile: glare beside part of the band, a zero
   // order or one saturated line cannot set it.
   const positive = Array.from(flux).filter((v) => v > 0).sort((x, y) => x - y);
@@ -84,16 +78,8 @@ function crossProfileOnce(image: LinearImage, band: BandGeometry, halfWidthPx: n
   const value = new Float64Array(R);
   if (bright.length >= 3) {
     const col = new Float64Array(bright.length);
-    for (let j = 0; j < R; j++) {
-      let n = 0;
-      for (const i of bright) {
-        const k = i * R + j;
-        if (s.valid[k]) col[n++] = (plane[k] - (bg.base[i] + q[j] * bg.slope[i])) / flux[i];
-      }
-      const sub = col.subarray(0, n);
-      sub.sort();
-      value[j] = n === 0 ? 0 : n % 2 ? sub[(n - 1) >> 1] : 0.5 * (sub[n / 2 - 1] + sub[n / 2]);
-    }
+    const columns = Int32Array.from(bright);
+    for (let j = 0; j < R; j++) value[j] = medianNormalisedRow(plane, s.valid, bg.base, bg.slope, flux, columns, q[j], j, R, col);
   } else {
     for (let i = 0; i < N; i++) {
       for (let j = 0, k = i * R; j < R; j++, k++) if (s.valid[k]) value[j] += plane[k] - (bg.base[i] + q[j] * bg.slope[i]);
@@ -130,6 +116,53 @@ function crossProfileOnce(image: LinearImage, band: BandGeometry, halfWidthPx: n
     profile: { offsetPx: Float64Array.from(q), value },
     complete,
   };
+}
+
+// The two loops below are functions of their own (measureHeight runs a few times per photo; see extract.ts for why).
+
+/** Σ D' over the core rows (|q| ≤ core) of every column. */
+function coreFluxes(
+  plane: Float32Array,
+  valid: Uint8Array,
+  base: Float64Array,
+  slope: Float64Array,
+  q: Float64Array,
+  N: number,
+  R: number,
+  core: number,
+  flux: Float64Array,
+): void {
+  for (let i = 0; i < N; i++) {
+    let f = 0;
+    for (let j = 0, k = i * R; j < R; j++, k++) {
+      if (valid[k] && Math.abs(q[j]) <= core) f += plane[k] - (base[i] + q[j] * slope[i]);
+    }
+    flux[i] = f;
+  }
+}
+
+/** Median over the given columns of row j's D' / flux (0 when no sample of the row is inside the image). */
+function medianNormalisedRow(
+  plane: Float32Array,
+  valid: Uint8Array,
+  base: Float64Array,
+  slope: Float64Array,
+  flux: Float64Array,
+  columns: Int32Array,
+  qj: number,
+  j: number,
+  R: number,
+  col: Float64Array,
+): number {
+  let n = 0;
+  for (let t = 0; t < columns.length; t++) {
+    const i = columns[t];
+    const k = i * R + j;
+    if (valid[k]) col[n++] = (plane[k] - (base[i] + qj * slope[i])) / flux[i];
+  }
+  const sub = col.subarray(0, n);
+  sub.sort();
+  return n === 0 ? 0 : n % 2 ? sub[(n - 1) >> 1] : 0.5 * (sub[n / 2 - 1] + sub[n / 2]);
 }
 
 /** Positions (in the band's frame) where its centre line runs inside the image, [from, to]. */

@@ -143,8 +143,13 @@ export function imageSigma(plane: Float32Array): { median: number; sigma: number
   const s = new Float32Array(n);
   for (let i = 0, k = 0; i < n; i++, k += stride) s[i] = plane[k];
   const med = selectInPlace(s, n, n >> 1);
-  for (let i = 0; i < n; i++) s[i] = Math.abs(s[i] - med);
+  absoluteDeviations(s, n, med);
   return { median: med, sigma: 1.4826 * selectInPlace(s, n, n >> 1) };
+}
+
+/** s[i] = |s[i] − centre| (a loop of its own: imageSigma runs once per photo; see extract.ts for why). */
+function absoluteDeviations(s: Float32Array, n: number, centre: number): void {
+  for (let i = 0; i < n; i++) s[i] = Math.abs(s[i] - centre);
 }
 
 /**

@@ -126,16 +126,7 @@ function bandSamples(image: LinearImage, band: BandGeometry, ambient: Ambient | 
   const M = j1 - j0 + 1;
   const data = new Float32Array(N * M);
   const complete = new Uint8Array(N);
-  const plane = s.planes[0];
-  for (let i = 0; i < N; i++) {
-    let all = 1;
-    for (let j = 0; j < M; j++) {
-      const ks = i * R + j0 + j;
-      if (s.valid[ks]) data[i * M + j] = plane[ks] - (bg.base[i] + q[j0 + j] * bg.slope[i]);
-      else if (Math.abs(q[j0 + j]) <= H / 2 + 3) all = 0;
-    }
-    complete[i] = all;
-  }
+  objectRowsLessBackground(s.planes[0], s.valid, bg.base, bg.slope, q, N, R, j0, M, H / 2 + 3, data, complete);
   return { columns: N, rows: M, positionPx: s.positionPx, offsetPx: q, data, complete, objRows: M, objOffsetPx: q.slice(j0, j1 + 1), stepPx, sampled: s };
 }
 
@@ -144,16 +135,7 @@ function fitAxis(s: BandSamples, band: BandGeometry): { band: BandGeometry; angl
   const { columns: N, rows: M, data, objOffsetPx: q, positionPx } = s;
   const flux = new Float64Array(N);
   const centroid = new Float64Array(N);
-  for (let i = 0; i < N; i++) {
-    let f = 0;
-    let fq = 0;
-    for (let j = 0, k = i * M; j < M; j++, k++) {
-      f += data[k];
-      fq += data[k] * q[j];
-    }
-    flux[i] = f;
-    centroid[i] = f !== 0 ? fq / f : 0;
-  }
+  columnCentroids(data, q, N, M, flux, centroid);
   const sigma = neighbourSigma(flux);
   let peak = 0;
   for (let i = 0; i < N; i++) peak = Math.max(peak, flux[i]);
@@ -243,7 +225,7 @@ function fitSlant(s: BandSamples, band: BandGeometry): { slantDeg: number; uncer
     for (let t = a; t < b; t++) {
       const j = core[t];
       qs += q[j];
-      for (let i = 0; i < N; i++) prof[i] += data[i * M + j];
+      addRow(prof, data, N, M, j);
     }
     slabs.push(highPass(prof, Math.max(3, Math.round(8 / stepPx))));
     slabQ.push(qs / (b - a));
@@ -274,11 +256,7 @@ function fitSlant(s: BandSamples, band: BandGeometry): { slantDeg: number; uncer
     const dq = slabQ[k] - qRef;
     const T = Math.ceil((Math.abs(dq) * Math.tan(12 * DEG)) / stepPx) + 2;
     const corr = new Float64Array(2 * T + 1);
-    for (let tau = -T; tau <= T; tau++) {
-      let c = 0;
-      for (let i = Math.max(0, tau); i < Math.min(N, N + tau); i++) c += sl[i] * total[i - tau];
-      corr[tau + T] = c;
-    }
+    for (let tau = -T; tau <= T; tau++) corr[tau + T] = lagProduct(sl, total, N, tau);
     let m = 1;
     for (let t = 1; t < 2 * T; t++) if (corr[t] > corr[m]) m = t;
     const peak = corr[m] / Math.sqrt(ss * tt);
@@ -313,4 +291,59 @@ function highPass(x: Float64Array, half: number): Float64Array {
   const out = new Float64Array(n);
   for (let i = half; i < n - half; i++) out[i] = x[i] - (prefix[i + half + 1] - prefix[i - half]) / (2 * half + 1);
   return out;
+}
+
+// The loops below are functions of their own: refineBand runs a few times per photo, and a function that holds several
+// long loops is compiled while its first loop runs and thrown away on reaching the next, not yet run (see extract.ts).
+
+/** D' = D − (base + q·slope) of the object rows j0 … j0 + M − 1, column by column; complete[i] = 0 where a core row is outside. */
+function objectRowsLessBackground(
+  plane: Float32Array,
+  valid: Uint8Array,
+  base: Float64Array,
+  slope: Float64Array,
+  q: Float64Array,
+  N: number,
+  R: number,
+  j0: number,
+  M: number,
+  coreHalfPx: number,
+  data: Float32Array,
+  complete: Uint8Array,
+): void {
+  for (let i = 0; i < N; i++) {
+    let all = 1;
+    for (let j = 0; j < M; j++) {
+      const ks = i * R + j0 + j;
+      if (valid[ks]) data[i * M + j] = plane[ks] - (base[i] + q[j0 + j] * slope[i]);
+      else if (Math.abs(q[j0 + j]) <= coreHalfPx) all = 0;
+    }
+    complete[i] = all;
+  }
+}
+
+/** Flux Σ D' and centroid Σ q D' / Σ D' of every column (0 where the flux is 0). */
+function columnCentroids(data: Float32Array, q: Float64Array, N: number, M: number, flux: Float64Array, centroid: Float64Array): void {
+  for (let i = 0; i < N; i++) {
+    let f = 0;
+    let fq = 0;
+    for (let j = 0, k = i * M; j < M; j++, k++) {
+      f += data[k];
+      fq += data[k] * q[j];
+    }
+    flux[i] = f;
+    centroid[i] = f !== 0 ? fq / f : 0;
+  }
+}
+
+/** prof[i] += data[i·M + j] for every column i. */
+function addRow(prof: Float64Array, data: Float32Array, N: number, M: number, j: number): void {
+  for (let i = 0; i < N; i++) prof[i] += data[i * M + j];
+}
+
+/** Σ_i a[i] · b[i − tau] over the overlap. */
+function lagProduct(a: Float64Array, b: Float64Array, N: number, tau: number): number {
+  let c = 0;
+  for (let i = Math.max(0, tau); i < Math.min(N, N + tau); i++) c += a[i] * b[i - tau];
+  return c;
 }
