@@ -5,7 +5,8 @@
  * Peak = the kernel's resident-set high-water mark (Linux /proc/self/status VmHWM, reset just before the run through
  * /proc/self/clear_refs); elsewhere a sampler thread reading the process RSS every millisecond (it may miss a
  * short-lived spike). The figure reported is the growth over the RSS measured after start-up and garbage
- * collection, i.e. what the task itself needed.
+ * collection, i.e. what the task itself needed. The task's wall time is reported too: a first run in a fresh process,
+ * before the JIT has compiled anything, as a single command-line run sees it.
  */
 import { readFileSync, writeFileSync } from 'node:fs';
 import { Worker } from 'node:worker_threads';
@@ -18,6 +19,8 @@ export interface MemoryProbeResult {
   method: 'VmHWM' | 'sampled';
   /** Peak V8 heap + array buffers seen at the end of the task (for the record). */
   arrayBuffersBytes: number;
+  /** Wall time of the task, its first run in this fresh process (what a single command-line run costs). */
+  elapsedMs: number;
 }
 
 function readHwmBytes(): number | undefined {
@@ -66,6 +69,7 @@ async function main(): Promise<void> {
   const exact = resetHwm() && readHwmBytes() !== undefined;
 
   let arrayBuffersBytes = 0;
+  const t0 = performance.now();
   if (mode === 'floor') {
     const out = await sharp(file).raw().toBuffer();
     arrayBuffersBytes = process.memoryUsage().arrayBuffers;
@@ -75,6 +79,7 @@ async function main(): Promise<void> {
     arrayBuffersBytes = process.memoryUsage().arrayBuffers;
     if (run.analysis.peaks.length === 0) process.stderr.write('memoryProbe: warning: the pipeline found no peaks\n');
   }
+  const elapsedMs = performance.now() - t0;
   const hwm = exact ? readHwmBytes() : undefined;
   worker.postMessage('stop');
   await new Promise((r) => worker.once('message', r));
@@ -85,6 +90,7 @@ async function main(): Promise<void> {
     peakRssBytes: hwm !== undefined ? Math.max(hwm, sampled) : sampled,
     method: hwm !== undefined ? 'VmHWM' : 'sampled',
     arrayBuffersBytes,
+    elapsedMs,
   };
   process.stdout.write(JSON.stringify(result) + '\n');
 }

@@ -113,32 +113,13 @@ export function offBandNoise(
   if (perColumn === 0) return { variance: NaN, rowCorrelation: 0, columnCorrelation: 0, sumFactor: 1, sumColumnCorrelation: 0 };
   const stride = Math.max(1, Math.ceil((columns * perColumn) / maxSamples));
   const squares = new Float64Array(Math.ceil(columns / stride) * perColumn);
-  let n = 0;
-  let rowNum = 0, rowDen = 0, colNum = 0, colDen = 0;
+  // [n, rowNum, rowDen, colNum, colDen], accumulated side by side, column by column.
+  const acc5 = new Float64Array(5);
   for (let i = 0; i < columns; i += stride) {
-    const next = i + 1 < columns;
-    for (const [from, to] of [low, high]) {
-      let prev = NaN;
-      for (let j = from, k = i * rows + from; j <= to; j++, k++) {
-        if (!valid[k]) {
-          prev = NaN;
-          continue;
-        }
-        const r = plane[k] - (bg.base[i] + offsetPx[j] * bg.slope[i]);
-        squares[n++] = r * r;
-        if (prev === prev) {
-          rowNum += r * prev;
-          rowDen += 0.5 * (r * r + prev * prev);
-        }
-        prev = r;
-        if (next && valid[k + rows]) {
-          const r2 = plane[k + rows] - (bg.base[i + 1] + offsetPx[j] * bg.slope[i + 1]);
-          colNum += r * r2;
-          colDen += 0.5 * (r * r + r2 * r2);
-        }
-      }
-    }
+    for (const [from, to] of [low, high]) sideResiduals(plane, bg.base, bg.slope, valid, offsetPx, columns, rows, i, from, to, squares, acc5);
   }
+  const n = acc5[0];
+  const rowNum = acc5[1], rowDen = acc5[2], colNum = acc5[3], colDen = acc5[4];
   const variance = n > 0 ? robustMeanSquare(squares, n) : NaN;
   const rowCorrelation = rowDen > 0 ? rowNum / rowDen : 0;
   // Row sums of each complete side, then differences two columns apart (mean removed: a gradient along the band).
@@ -156,21 +137,7 @@ export function offBandNoise(
     if (k < 2 || columns < 24) continue;
     const sums = new Float64Array(columns);
     const ok = new Uint8Array(columns);
-    for (let g = 0; g + 2 < columns; g += every) {
-      for (let i = g; i < g + 3; i++) {
-        let b = 0;
-        let all = 1;
-        for (let kk = i * rows + from, e = i * rows + to; kk <= e; kk++) {
-          if (!valid[kk]) {
-            all = 0;
-            break;
-          }
-          b += plane[kk];
-        }
-        sums[i] = b;
-        ok[i] = all;
-      }
-    }
+    groupRowSums(plane, valid, columns, rows, from, to, every, sums, ok);
     const lag2 = diffSquares(sums, ok, 2);
     const lag1 = diffSquares(sums, ok, 1);
     if (lag2 === null || lag1 === null) continue;
@@ -197,6 +164,85 @@ export function offBandNoise(
   };
 }
 
+// The loops of offBandNoise and sideLevels are functions of their own: both run a few times per photo, and a
+// function holding several long loops is compiled on its first loop and deoptimised on reaching the next (extract.ts).
+
+/**
+ * The residuals of one side (rows from…to) of column i about the background: their squares appended to `squares`, and
+ * acc = [count, Σ r·r_prev, Σ (r² + r_prev²)/2 (neighbouring rows), Σ r·r_next, Σ (r² + r_next²)/2 (next column)].
+ */
+function sideResiduals(
+  plane: Float32Array,
+  base: Float64Array,
+  slope: Float64Array,
+  valid: Uint8Array,
+  offsetPx: Float64Array,
+  columns: number,
+  rows: number,
+  i: number,
+  from: number,
+  to: number,
+  squares: Float64Array,
+  acc: Float64Array,
+): void {
+  const next = i + 1 < columns;
+  let n = acc[0];
+  let rowNum = acc[1], rowDen = acc[2], colNum = acc[3], colDen = acc[4];
+  let prev = NaN;
+  for (let j = from, k = i * rows + from; j <= to; j++, k++) {
+    if (!valid[k]) {
+      prev = NaN;
+      continue;
+    }
+    const r = plane[k] - (base[i] + offsetPx[j] * slope[i]);
+    squares[n++] = r * r;
+    if (prev === prev) {
+      rowNum += r * prev;
+      rowDen += 0.5 * (r * r + prev * prev);
+    }
+    prev = r;
+    if (next && valid[k + rows]) {
+      const r2 = plane[k + rows] - (base[i + 1] + offsetPx[j] * slope[i + 1]);
+      colNum += r * r2;
+      colDen += 0.5 * (r * r + r2 * r2);
+    }
+  }
+  acc[0] = n;
+  acc[1] = rowNum;
+  acc[2] = rowDen;
+  acc[3] = colNum;
+  acc[4] = colDen;
+}
+
+/** Row sums over rows from…to of the columns in groups (g, g+1, g+2), g = 0, every, 2·every, …; ok = all rows inside. */
+function groupRowSums(
+  plane: Float32Array,
+  valid: Uint8Array,
+  columns: number,
+  rows: number,
+  from: number,
+  to: number,
+  every: number,
+  sums: Float64Array,
+  ok: Uint8Array,
+): void {
+  for (let g = 0; g + 2 < columns; g += every) {
+    for (let i = g; i < g + 3; i++) {
+      let b = 0;
+      let all = 1;
+      for (let kk = i * rows + from, e = i * rows + to; kk <= e; kk++) {
+        if (!valid[kk]) {
+          all = 0;
+          break;
+        }
+        b += plane[kk];
+      }
+      sums[i] = b;
+      ok[i] = all;
+    }
+  }
+}
+
 function meanOffset(offsetPx: Float64Array, [from, to]: [number, number]): number {
   let s = 0;
   for (let j = from; j <= to; j++) s += offsetPx[j];
@@ -217,6 +263,28 @@ function sideLevels(
   const mean = new Float64Array(columns);
   const has = new Uint8Array(columns);
   // Pass 1: plain means, and the scatter about them (for the clip).
+  const scatter = plainMeans(plane, valid, columns, rows, from, to, mean, has);
+  const sq = scatter[0];
+  const nsq = scatter[1];
+  if (nsq === 0) return null;
+  // Pass 2: the mean of the samples within 4 σ of the plain mean (σ from the median column's scatter would be more
+  // robust; the overall rms is inflated by outliers only, which makes the clip looser, not wrong).
+  const clip = 4 * Math.sqrt(sq / nsq) + 1e-30;
+  clippedMeans(plane, valid, columns, rows, from, to, clip, mean, has);
+  return runningMean(mean, has, smoothSamples);
+}
+
+/** Per column the mean of rows from…to inside the image (has = 1 where any), and [Σ (x − mean)², count] over all. */
+function plainMeans(
+  plane: Float32Array,
+  valid: Uint8Array,
+  columns: number,
+  rows: number,
+  from: number,
+  to: number,
+  mean: Float64Array,
+  has: Uint8Array,
+): [number, number] {
   let sq = 0;
   let nsq = 0;
   for (let i = 0; i < columns; i++) {
@@ -240,10 +308,21 @@ function sideLevels(
       }
     }
   }
-  if (nsq === 0) return null;
-  // Pass 2: the mean of the samples within 4 σ of the plain mean (σ from the median column's scatter would be more
-  // robust; the overall rms is inflated by outliers only, which makes the clip looser, not wrong).
-  const clip = 4 * Math.sqrt(sq / nsq) + 1e-30;
+  return [sq, nsq];
+}
+
+/** mean[i] ← the mean of the samples of rows from…to within `clip` of mean[i] (kept where none is). */
+function clippedMeans(
+  plane: Float32Array,
+  valid: Uint8Array,
+  columns: number,
+  rows: number,
+  from: number,
+  to: number,
+  clip: number,
+  mean: Float64Array,
+  has: Uint8Array,
+): void {
   for (let i = 0; i < columns; i++) {
     if (!has[i]) continue;
     const m = mean[i];
@@ -257,7 +336,6 @@ function sideLevels(
     }
     if (n > 0) mean[i] = s / n;
   }
-  return runningMean(mean, has, smoothSamples);
 }
 
 /** Running mean over `window` samples (odd), skipping samples without data; NaN where a window holds none. */
