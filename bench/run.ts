@@ -1,17 +1,24 @@
 /**
  * `npm run bench`: performance as ratios against a floor measured in the same run (never as timed tests). Each section
  * prints its figures with their targets; the run is a report and exits 0 even when a target is missed.
- * Add a section by appending it to SECTIONS.
+ * Add a section by appending it to SECTIONS; BENCH_ONLY=<text> runs only the sections whose name contains it.
  */
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { type BenchFigure, type BenchSection, passes } from './section.js';
 import { analysisSection } from './analysisBench.js';
+import { batchSection } from './batchBench.js';
 import { browserSection } from './browser.js';
 import { spectrumSection } from './spectrumBench.js';
 
-const SECTIONS: BenchSection[] = [spectrumSection, analysisSection, browserSection];
+const SECTIONS: BenchSection[] = [spectrumSection, analysisSection, batchSection, browserSection];
+
+/** `BENCH_ONLY=batch npm run bench` runs only the sections whose name contains that text (case-insensitive). */
+function selectedSections(): BenchSection[] {
+  const only = process.env.BENCH_ONLY?.trim().toLowerCase();
+  return only ? SECTIONS.filter((s) => s.name.toLowerCase().includes(only)) : SECTIONS;
+}
 
 function formatFigure(f: BenchFigure): string {
   const verdict = passes(f) ? 'PASS' : 'OVER TARGET';
@@ -26,7 +33,7 @@ async function main(): Promise<void> {
   const log = (m: string): void => void process.stderr.write(m + '\n');
   const all: BenchFigure[] = [];
   try {
-    for (const section of SECTIONS) {
+    for (const section of selectedSections()) {
       log(`\n${section.name}`);
       try {
         const figures = await section.run({ workDir, log });
