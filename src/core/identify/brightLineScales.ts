@@ -6,6 +6,7 @@ import {
   type PolynomialModel,
 } from '../calibration/polynomialModel.js';
 import type { Peak, SpectralLine } from '../types.js';
+import { gratingLikeCurvature, MAX_FALL_PER_NM, MAX_RISE } from './scaleFit.js';
 import { buildSpeciesTemplates } from './speciesTemplates.js';
 
 /** A linear scale hypothesis and the line assignments it implies. */
@@ -22,16 +23,18 @@ export interface BrightLineOptions {
   /** The brightest peaks that seed hypotheses. @default 6 */
   seedPeaks?: number;
   /**
-   * The strongest features of the species that seed hypotheses: so many below `visibleEdgeNm` per spectrum, and so
-   * many above it: a phone's infrared-cut filter hides the near-infrared lines that dominate some tables (Ar, Kr,
-   * Xe), a webcam without one shows them. @default [3, 2]
+   * The strongest features of the species that seed hypotheses: so many inside `seenRangeNm`, so many of each
+   * spectrum (I, II) inside it, and so many beyond its red end: a phone's infrared-cut filter hides the near-infrared
+   * lines that dominate some tables (Ar, Kr, Xe), a webcam without one shows them. @default [6, 3, 2]
    */
-  seedFeatures?: readonly [number, number];
-  /** @default 700 */
-  visibleEdgeNm?: number;
+  seedFeatures?: readonly [number, number, number];
+  /** Where every camera sees well (nm; common practice, no source). @default [400, 700] */
+  seenRangeNm?: readonly [number, number];
   /** A peak matches a line within this many px of the hypothesis' position (at least `minToleranceNm`). @default 2 */
   tolerancePx?: number;
   minToleranceNm?: number;
+  /** The brightest peaks scored against each hypothesis. @default 16 */
+  scoredPeaks?: number;
   /** Hypotheses kept per element. @default 2 */
   keep?: number;
   /** Fewest matched lines a kept hypothesis needs (the two seeds included). @default 4 */
@@ -41,13 +44,25 @@ export interface BrightLineOptions {
 export const BRIGHT_LINE_DEFAULTS = {
   dispersionNmPerPx: [0.05, 2] as readonly [number, number],
   seedPeaks: 6,
-  seedFeatures: [3, 2] as readonly [number, number],
-  visibleEdgeNm: 700,
+  seedFeatures: [12, 12, 2] as readonly [number, number, number],
+  seenRangeNm: [400, 700] as readonly [number, number],
   tolerancePx: 2,
   minToleranceNm: 0.5,
+  scoredPeaks: 16,
   keep: 2,
   minMatches: 4,
 } as const;
+
+/**
+ * A scored peak on none of the species' features costs this much (nats): a peak of the tube's own gas lands on a
+ * feature, so a scale that leaves most bright peaks unexplained is unlikely (ln of 1/(1 − f) for a share f ≈ 0.6 of
+ * peaks from the gas).
+ */
+const UNMATCHED_NATS = 1;
+/** Least wavelength span of a tube's peaks (nm; common practice, no source: its lines spread across the visible). */
+const MIN_PEAK_SPAN_NM = 80;
+/** A peak put outside what a camera sees costs more: no line can be there. */
+const OUTSIDE_NATS = 3;
 
 /**
  * Scale hypotheses from intensity ranks, complementing the spacing-ratio matcher for species with few lines: the
@@ -65,7 +80,12 @@ export function brightLineScales(
   options: BrightLineOptions = {},
 ): BrightLineScale[] {
   const o = { ...BRIGHT_LINE_DEFAULTS, ...Object.fromEntries(Object.entries(options).filter(([, v]) => v !== undefined)) };
-  const [dMin, dMax] = o.dispersionNmPerPx;
+  const [dMinGiven, dMax] = o.dispersionNmPerPx;
+  // A photo of a tube through a grating spans a good part of the visible: the peaks spread over fewer than
+  // MIN_PEAK_SPAN_NM would be a scale squeezed onto a line-rich stretch of some table.
+  const positions = peaks.map((p) => p.positionPx).filter(Number.isFinite);
+  const peakSpanPx = positions.length ? Math.max(...positions) - Math.min(...positions) : 0;
+  const dMin = Math.max(dMinGiven, peakSpanPx > 0 ? MIN_PEAK_SPAN_NM / peakSpanPx : 0);
   const wanted = new Set(elements);
   const templates = buildSpeciesTemplates(
     lines.filter((l) => wanted.has(l.element) && (l as { kind?: string }).kind !== 'band-head'),
@@ -73,17 +93,22 @@ export function brightLineScales(
   );
   const byArea = [...peaks].filter((p) => Number.isFinite(p.positionPx)).sort((a, b) => b.area - a.area);
   const seeds = byArea.slice(0, o.seedPeaks);
-  const xs = Float64Array.from(byArea, (p) => p.positionPx);
+  // The brightest peaks are scored (a tube's brightest peaks are its gas's lines; faint ones may be anything).
+  const xs = Float64Array.from(byArea.slice(0, o.scoredPeaks), (p) => p.positionPx);
   const out: BrightLineScale[] = [];
   for (const t of templates) {
     const order = t.features.map((_, k) => k).sort((a, b) => t.weights[b] - t.weights[a]);
-    // Visible seeds per spectrum: a neutral spectrum's strongest lines may lie in the infrared, leaving its visible
-    // lines behind the ion's in weight, though a phone sees them best.
-    const visible = [...new Set(t.features.map((f) => f.spectrum))].flatMap((name) =>
-      order.filter((k) => t.features[k].spectrum === name && t.features[k].wavelengthNm <= o.visibleEdgeNm).slice(0, o.seedFeatures[0]),
+    // Seeds are what a camera shows brightest: the strongest features in the well-seen window (a table's strongest
+    // line may sit in the near UV or infrared, where a phone hardly sees it), a few per spectrum there too (a
+    // neutral spectrum's visible lines may trail the ion's in weight), and a few beyond the visible edge for a
+    // webcam without an infrared-cut filter.
+    const seen = (k: number) => t.features[k].wavelengthNm >= o.seenRangeNm[0] && t.features[k].wavelengthNm <= o.seenRangeNm[1];
+    const visible = order.filter(seen).slice(0, o.seedFeatures[0]);
+    const perSpectrum = [...new Set(t.features.map((f) => f.spectrum))].flatMap((name) =>
+      order.filter((k) => t.features[k].spectrum === name && seen(k)).slice(0, o.seedFeatures[1]),
     );
-    const infrared = order.filter((k) => t.features[k].wavelengthNm > o.visibleEdgeNm).slice(0, o.seedFeatures[1]);
-    const top = [...visible, ...infrared];
+    const infrared = order.filter((k) => t.features[k].wavelengthNm > o.seenRangeNm[1]).slice(0, o.seedFeatures[2]);
+    const top = [...new Set([...visible, ...perSpectrum, ...infrared])];
     const featureNm = Float64Array.from(t.features, (f) => f.wavelengthNm);
     let tried = 0;
     const found: Hypothesis[] = [];
@@ -91,41 +116,81 @@ export function brightLineScales(
     // must have a plausible dispersion and change it by at most MAX_CURVATURE across the seeds. Each such scale is
     // scored by the peaks that land on a feature within the tolerance (widening beyond the seeds).
     const sortedTop = [...top].sort((a, b) => featureNm[a] - featureNm[b]);
+    const topNm = Float64Array.from(sortedTop, (k) => featureNm[k]);
     for (let i = 0; i < seeds.length; i++) {
       for (let j = i + 1; j < seeds.length; j++) {
         for (let k = j + 1; k < seeds.length; k++) {
           const trio = [seeds[i], seeds[j], seeds[k]].map((p) => p.positionPx).sort((a, b) => a - b);
           if (trio[1] - trio[0] < 1 || trio[2] - trio[1] < 1) continue;
-          for (let f = 0; f < sortedTop.length; f++) {
-            for (let g = f + 1; g < sortedTop.length; g++) {
-              for (let h = g + 1; h < sortedTop.length; h++) {
-                const lams = [featureNm[sortedTop[f]], featureNm[sortedTop[g]], featureNm[sortedTop[h]]];
-                for (const reversed of [false, true]) {
-                  const l = reversed ? [lams[2], lams[1], lams[0]] : lams;
-                  // Two seeds close together fix no curvature (their centroid errors would): then a straight line
-                  // through all three, within the tolerance, with the chord's allowance for curvature in scoring.
-                  const span = trio[2] - trio[0];
-                  const close = Math.min(trio[1] - trio[0], trio[2] - trio[1]) < CLOSE_SEEDS * span;
-                  const q = close ? lineThrough(trio, l) : quadraticThrough(trio, l);
+          // Seeds bunched on a short stretch fix no scale across the band: its extrapolation would be guesswork.
+          if (trio[2] - trio[0] < MIN_SEED_SPAN * peakSpanPx) continue;
+          const span = trio[2] - trio[0];
+          // Two seeds close together fix no curvature (their centroid errors would): then a straight line through
+          // all three, within the tolerance, with the chord's allowance for curvature in scoring.
+          const close = Math.min(trio[1] - trio[0], trio[2] - trio[1]) < CLOSE_SEEDS * span;
+          const nTop = sortedTop.length;
+          for (let f = 0; f < nTop; f++) {
+            for (let h = f + 2; h < nTop; h++) {
+              // The outer seeds alone fix the chord's dispersion: most feature pairs fail it, before any middle.
+              const chord = (featureNm[sortedTop[h]] - featureNm[sortedTop[f]]) / span;
+              if (chord < dMin / 1.5 || chord > dMax * 1.5) continue;
+              // The middle seed's feature lies near the chord: within what the allowed curvature bends it by.
+              const bendNm = (0.6 * MAX_CURVATURE * chord * (trio[1] - trio[0]) * (trio[2] - trio[1])) / span;
+              const windowNm = Math.max(bendNm, 2 * Math.max(o.tolerancePx * chord, o.minToleranceNm));
+              for (let dir = 0; dir < 2; dir++) {
+                const reversed = dir === 1;
+                const l0 = topNm[reversed ? h : f];
+                const l2 = topNm[reversed ? f : h];
+                const chordNm = l0 + ((l2 - l0) * (trio[1] - trio[0])) / span;
+                const gFirst = Math.max(f + 1, lowerBound(topNm, chordNm - windowNm));
+                const gEnd = Math.min(h, lowerBound(topNm, chordNm + windowNm + 1e-9));
+                for (let g = gFirst; g < gEnd; g++) {
+                  const l1 = topNm[g];
+                  const q = close ? lineThrough(trio, [l0, l1, l2]) : quadraticThrough(trio, [l0, l1, l2]);
                   if (!q) continue;
                   const s0 = q.b + 2 * q.c * trio[0];
                   const s2 = q.b + 2 * q.c * trio[2];
                   const mid = Math.abs(q.b + q.c * (trio[0] + trio[2]));
                   if (!(mid >= dMin && mid <= dMax) || Math.sign(s0) !== Math.sign(s2)) continue;
                   if (Math.abs(s2 - s0) > MAX_CURVATURE * mid) continue;
+                  // A grating's |dλ/dx| falls towards the red (scaleFit.ts: gratingLikeCurvature), within the seeds'
+                  // centroid errors.
+                  if (!close) {
+                    const blueFirst = l0 < l2;
+                    const fall = (Math.abs(blueFirst ? s0 : s2) - Math.abs(blueFirst ? s2 : s0)) / mid;
+                    if (fall > MAX_FALL_PER_NM * Math.abs(l2 - l0) + SEED_CURVATURE_SLACK || fall < -MAX_RISE - SEED_CURVATURE_SLACK) continue;
+                  }
                   const base = Math.max(o.tolerancePx * mid, o.minToleranceNm);
-                  if (close && trio.some((x, n) => Math.abs(q.a + q.b * x - l[n]) > base)) continue;
+                  if (
+                    close &&
+                    (Math.abs(q.a + q.b * trio[0] - l0) > base || Math.abs(q.a + q.b * trio[1] - l1) > base || Math.abs(q.a + q.b * trio[2] - l2) > base)
+                  ) {
+                    continue;
+                  }
                   tried++;
+                  // Each peak on a feature counts by how unlikely chance makes it: −ln of the probability that a
+                  // peak at a random wavelength falls within the tolerance of one of the species' features. A
+                  // line-rich species or a wide tolerance (a coarse scale) gets less for each match.
+                  let count = 0;
                   let score = 0;
+                  // Kept only if among the best GROWN_PER_ELEMENT so far: stop once even a perfect rest cannot get there.
+                  const bar = found.length >= GROWN_PER_ELEMENT ? worstKept(found) : -Infinity;
                   for (let m = 0; m < xs.length; m++) {
+                    if (score + (xs.length - m) * MAX_CREDIT_NATS < bar) break;
                     const x = xs[m];
                     const beyond = x < trio[0] ? trio[0] - x : x > trio[2] ? x - trio[2] : 0;
                     const bend = close ? curvatureNm(x, trio[0], trio[2], mid) : 0.5 * DRIFT_PER_PX * beyond * beyond * mid;
-                    if (nearestWithin(featureNm, q.a + q.b * x + q.c * x * x, base + bend) >= 0) score++;
+                    const tol = base + bend;
+                    const at = q.a + q.b * x + q.c * x * x;
+                    if (at < cameraRangeNm[0] || at > cameraRangeNm[1]) score -= OUTSIDE_NATS;
+                    else if (nearestWithin(featureNm, at, tol) >= 0) {
+                      count++;
+                      score += Math.min(MAX_CREDIT_NATS, -Math.log(Math.min(0.5, 2 * tol * localDensity(featureNm, at))));
+                    } else score -= UNMATCHED_NATS;
                   }
-                  if (score >= o.minMatches) {
+                  if (count >= o.minMatches && score >= bar) {
                     const idx = reversed ? [sortedTop[h], sortedTop[g], sortedTop[f]] : [sortedTop[f], sortedTop[g], sortedTop[h]];
-                    found.push({ score, seeds: trio.map((x, n) => [x, idx[n]] as [number, number]) });
+                    keepBest(found, { score, seeds: trio.map((x, n) => [x, idx[n]] as [number, number]) });
                   }
                 }
               }
@@ -137,9 +202,15 @@ export function brightLineScales(
     if (tried === 0) continue;
     found.sort((p, q) => q.score - p.score);
     const grown: Array<{ points: CalibrationPoint[]; model: PolynomialModel }> = [];
+    // The best few grown, ranked again on their grown scales (a good seed triple may have scored low on its own).
+    const candidates: Array<{ points: CalibrationPoint[]; model: PolynomialModel; score: number }> = [];
     for (const h of found.slice(0, GROWN_PER_ELEMENT)) {
       const g = grow(h, byArea, t.features, featureNm, o);
       if (!g || g.points.length < o.minMatches) continue;
+      candidates.push({ ...g, score: modelScore(g.model, xs, featureNm, o, cameraRangeNm) });
+    }
+    candidates.sort((a, b) => b.score - a.score);
+    for (const g of candidates) {
       if (grown.some((x) => sameModel(x.model, g.model, xs))) continue;
       grown.push(g);
       if (grown.length >= o.keep) break;
@@ -173,6 +244,32 @@ function curvatureNm(x: number, x0: number, x1: number, slope: number): number {
 /** Most the dispersion may change across three seed lines, as a share of its value (common practice, no source). */
 const MAX_CURVATURE = 0.3;
 
+/** One match is worth at most this much (nats): an isolated feature hit within a tight tolerance. */
+const MAX_CREDIT_NATS = 4;
+/** Slack on the seeds' grating-curvature test for their centroid errors (share of the dispersion). */
+const SEED_CURVATURE_SLACK = 0.05;
+
+/** The lowest score among the kept hypotheses (the list holds at most GROWN_PER_ELEMENT). */
+function worstKept(found: readonly Hypothesis[]): number {
+  let w = Infinity;
+  for (const h of found) w = Math.min(w, h.score);
+  return w;
+}
+
+/** Adds a hypothesis, dropping the worst once GROWN_PER_ELEMENT are held. */
+function keepBest(found: Hypothesis[], h: Hypothesis): void {
+  if (found.length < GROWN_PER_ELEMENT) {
+    found.push(h);
+    return;
+  }
+  let k = 0;
+  for (let i = 1; i < found.length; i++) if (found[i].score < found[k].score) k = i;
+  if (h.score > found[k].score) found[k] = h;
+}
+
+/** Seed peaks must span at least this share of the peaks' extent (common practice, no source). */
+const MIN_SEED_SPAN = 0.25;
+
 /** Seeds closer than this share of their span fix no curvature. */
 const CLOSE_SEEDS = 0.15;
 
@@ -204,7 +301,7 @@ function quadraticThrough(x: readonly number[], y: readonly number[]): { a: numb
 }
 
 /** Three-point hypotheses grown into full assignments, per element. */
-const GROWN_PER_ELEMENT = 6;
+const GROWN_PER_ELEMENT = 12;
 
 /**
  * Grows a two-seed hypothesis: peaks nearest the assigned span first, each matched to the nearest unused single-line
@@ -249,8 +346,14 @@ function grow(
     const widthNm = 1.2 * peaks[i].fwhmPx * slope;
     if ((k > 0 && featureNm[k] - featureNm[k - 1] < widthNm) || (k + 1 < featureNm.length && featureNm[k + 1] - featureNm[k] < widthNm)) continue;
     assigned.set(i, k);
+    const next = refit(assigned, peaks, featureNm, extentPx);
+    // A match that bends the scale the way no grating does is wrong (a neighbouring line taken at the far end).
+    if (!next || (next.degree === 2 && !gratingLikeCurvature(next, [...assigned].map(([pi, fk]) => ({ positionPx: peaks[pi].positionPx, wavelengthNm: featureNm[fk] }))))) {
+      assigned.delete(i);
+      continue;
+    }
     used.add(k);
-    model = refit(assigned, peaks, featureNm, extentPx) ?? model;
+    model = next;
   }
   // Only single lines calibrate: a blend has no one wavelength.
   const points: CalibrationPoint[] = [];
@@ -267,6 +370,25 @@ function grow(
     });
   }
   return { points, model };
+}
+
+/** The hypothesis score (see brightLineScales) of a grown scale: fitted across its lines, so no allowance for bending. */
+function modelScore(
+  model: PolynomialModel,
+  xs: Float64Array,
+  featureNm: Float64Array,
+  o: { tolerancePx: number; minToleranceNm: number },
+  cameraRangeNm: readonly [number, number],
+): number {
+  let score = 0;
+  for (const x of xs) {
+    const at = polynomialWavelengthNm(model, x);
+    const tol = Math.max(o.tolerancePx * Math.abs(polynomialDispersionNmPerPx(model, x)), o.minToleranceNm);
+    if (at < cameraRangeNm[0] || at > cameraRangeNm[1]) score -= OUTSIDE_NATS;
+    else if (nearestWithin(featureNm, at, tol) >= 0) score += Math.min(MAX_CREDIT_NATS, -Math.log(Math.min(0.5, 2 * tol * localDensity(featureNm, at))));
+    else score -= UNMATCHED_NATS;
+  }
+  return score;
 }
 
 /** Linear until four lines span 40 % of the peaks' extent: a curvature from clustered lines extrapolates wildly. */
@@ -287,6 +409,28 @@ function sameModel(p: PolynomialModel, q: PolynomialModel, xs: Float64Array): bo
   }
   const tol = 2 * Math.abs(polynomialDispersionNmPerPx(p, (lo + hi) / 2));
   return [lo, (lo + hi) / 2, hi].every((x) => Math.abs(polynomialWavelengthNm(p, x) - polynomialWavelengthNm(q, x)) <= tol);
+}
+
+/** Half-width of the window over which the species' feature density is counted (nm). */
+const DENSITY_HALF_WIDTH_NM = 10;
+
+/**
+ * Features per nm around a wavelength (at least one: the feature matched may lie beyond the window): the chance that a
+ * peak at a random wavelength near here lands on one within ±tol is about 2·tol times this.
+ */
+function localDensity(sorted: Float64Array, v: number): number {
+  return Math.max(1, lowerBound(sorted, v + DENSITY_HALF_WIDTH_NM) - lowerBound(sorted, v - DENSITY_HALF_WIDTH_NM)) / (2 * DENSITY_HALF_WIDTH_NM);
+}
+
+function lowerBound(sorted: Float64Array, v: number): number {
+  let lo = 0;
+  let hi = sorted.length;
+  while (lo < hi) {
+    const mid = (lo + hi) >> 1;
+    if (sorted[mid] < v) lo = mid + 1;
+    else hi = mid;
+  }
+  return lo;
 }
 
 function nearestWithin(sorted: Float64Array, v: number, tol: number): number {

@@ -18,21 +18,35 @@ export const SELF_CALIBRATION_LAMPS: readonly string[] = ['Ne', 'Ar', 'He', 'Hg'
 export interface SelfCalibrationOptions extends Omit<IdentifyOptions, 'rangeNm' | 'systematicNm' | 'evidencePenalty'> {
   /** Lamp specs ('Ne', 'Ar+Hg'), each a set of elements whose lines (from `lines`) are tried as the calibration. */
   lamps?: readonly string[];
+  /**
+   * Of `lamps`, those also given to the spacing-ratio line matcher (the costly search, worth it for line-rich
+   * spectra); every single-element lamp gets the brightest-line search. @default SELF_CALIBRATION_DEFAULTS.matcherLamps
+   */
+  matcherLamps?: readonly string[];
   /** Extent of the spectrum along the band (px): its wavelength range on each candidate scale. @default the peaks' extent */
   positionRangePx?: readonly [number, number];
   /** What a camera can see at all (nm): the covered range is clipped to it. @default [350, 1000] */
   cameraRangeNm?: readonly [number, number];
   /** Passed to the line matcher (e.g. a known dispersion range). */
   match?: Partial<MatchLinesOptions>;
+  /** Joint evidence (nats) of "none of these scales". @default SELF_CALIBRATION_DEFAULTS.noneEvidence */
+  noneEvidence?: number;
 }
 
 export const SELF_CALIBRATION_DEFAULTS = {
   lamps: SELF_CALIBRATION_LAMPS,
+  matcherLamps: ['Ne', 'Ar'] as readonly string[],
   /** Matcher options for self-calibration (its defaults: fewer seeds or hypotheses lose lamps such as Ar+Hg). */
   match: {} as Partial<MatchLinesOptions>,
   cameraRangeNm: [350, 1000] as readonly [number, number],
   /** Two scales are one when they put every peak within this many RMS of each other. */
   sameScaleRms: 3,
+  /**
+   * Joint evidence (nats) of "none of these scales": a scale must beat it to be believed. Above 0 because the
+   * search tries many scales for many species and keeps the best, so a few nats arise by chance (seen in the seeded
+   * evaluation on sodium lamps, whose one doublet cannot set a scale).
+   */
+  noneEvidence: 2,
 } as const;
 
 /** The scale the spectrum gave itself. */
@@ -129,7 +143,7 @@ const MIN_SCALE_LINES = 4;
  *    to every single, unblended line the identification placed with confidence ≥ 0.9 and the peaks identified again;
  *    the refit is kept when it explains the peaks better.
  * 3. Scales are ranked by the joint evidence J = modelEvidence − ln T, T the number of scale hypotheses the search
- *    could produce (the matcher's count, or the brightest-line pairs tried: the look-elsewhere cost of the search). Their posterior probabilities, with "none of these scales" at J = 0,
+ *    could produce (the matcher's count, or the brightest-line pairs tried: the look-elsewhere cost of the search). Their posterior probabilities, with "none of these scales" at J = 2 (`noneEvidence`),
  *    are p_c = e^{J_c} / (1 + Σ e^{J}); a species' score is its score on each scale weighted by p_c (Bayesian model
  *    averaging), so competing scales lower every confidence; presence is judged on the most probable scale.
  *
@@ -153,8 +167,12 @@ export function identifySelfCalibrated(peaks: readonly Peak[], options: SelfCali
     return { ...empty(), warnings: [`${NO_EMISSION_LINES}: ${why}; no species is named`], calibration: null, candidates: [] };
   }
 
-  const solutions = usable.length >= MIN_SCALE_LINES ? candidateScales(usable, lamps, options, camera) : [];
-  if (usable.length >= MIN_SCALE_LINES) addBrightLineScales(solutions, usable, lamps, options, camera);
+  const matcherLamps = (options.matcherLamps ?? SELF_CALIBRATION_DEFAULTS.matcherLamps).filter((l) => lamps.includes(l));
+  const found = usable.length >= MIN_SCALE_LINES ? candidateScales(usable, matcherLamps, options, camera) : [];
+  if (usable.length >= MIN_SCALE_LINES) addBrightLineScales(found, usable, lamps, options, camera);
+  // A scale is physical only when its dispersion is plausible and it runs one way across the whole spectrum: a fit
+  // through few lines can collapse (every peak at one wavelength) or turn over between them.
+  const solutions = found.filter((s) => plausibleScale(s.fit, extent, options.match?.dispersionNmPerPx ?? PLAUSIBLE_DISPERSION_NM_PER_PX));
   const evaluated: Evaluated[] = solutions.map((s) => {
     const penalty = (s.fit.model.kind === 'polynomial' ? s.fit.model.degree + 1 : 3) + Math.log(lamps.length);
     const evidencePenalty: Record<string, number> = {};
@@ -175,9 +193,10 @@ export function identifySelfCalibrated(peaks: readonly Peak[], options: SelfCali
     return { s, ...best, penalty, joint, probability: 0 };
   });
   evaluated.sort((a, b) => b.joint - a.joint || a.s.log10FalseMatch - b.s.log10FalseMatch);
-  // Posterior probabilities of the scales, "none of them" at joint evidence 0 (log-sum-exp for large values).
-  const top = Math.max(0, ...evaluated.map((e) => e.joint));
-  const norm = Math.exp(-top) + evaluated.reduce((sum, e) => sum + Math.exp(e.joint - top), 0);
+  // Posterior probabilities of the scales, "none of them" at joint evidence NONE_EVIDENCE (log-sum-exp).
+  const none = options.noneEvidence ?? SELF_CALIBRATION_DEFAULTS.noneEvidence;
+  const top = Math.max(none, ...evaluated.map((e) => e.joint));
+  const norm = Math.exp(none - top) + evaluated.reduce((sum, e) => sum + Math.exp(e.joint - top), 0);
   for (const e of evaluated) e.probability = Math.exp(e.joint - top) / norm;
 
   const candidates: ScaleCandidate[] = evaluated.map((e, k) => ({
@@ -191,10 +210,10 @@ export function identifySelfCalibrated(peaks: readonly Peak[], options: SelfCali
     jointEvidence: e.joint,
     probability: e.probability,
     present: e.identification.species.filter((x) => x.present).map((x) => x.element),
-    chosen: k === 0 && e.joint > 0,
+    chosen: k === 0 && e.joint > none,
   }));
   const best = evaluated[0];
-  if (!best || best.joint <= 0 || !best.identification.species.some((x) => x.present)) {
+  if (!best || best.joint <= none || !best.identification.species.some((x) => x.present)) {
     const why =
       usable.length < MIN_SCALE_LINES
         ? `${usable.length} peak(s): a wavelength scale from the spectrum itself needs at least ${MIN_SCALE_LINES} lines`
@@ -243,7 +262,7 @@ export function identifySelfCalibrated(peaks: readonly Peak[], options: SelfCali
       `probability ${best.probability.toFixed(2)} among the candidate scales): scores are averaged over those scales and ` +
       `${own.join(' and ')} lose${own.length > 1 ? '' : 's'} evidence for making the scale; a calibration profile gives firmer answers`,
   ];
-  const runner = evaluated.find((e) => e !== best && presentKey(e.identification) !== presentKey(best.identification) && e.joint > 0);
+  const runner = evaluated.find((e) => e !== best && presentKey(e.identification) !== presentKey(best.identification) && e.joint > none);
   if (runner && best.joint - runner.joint < 3) {
     notes.push(
       `another self-calibrated scale (${runner.s.lamp} lines) explains the peaks almost as well, as ${presentKey(runner.identification) || 'nothing'}: ` +
@@ -387,6 +406,15 @@ function calibrationLines(lamp: string, lines: readonly SpectralLine[], camera: 
   return lines.filter(
     (l) => elements.has(l.element) && (l as { kind?: string }).kind !== 'band-head' && l.wavelengthNm >= camera[0] && l.wavelengthNm <= camera[1],
   );
+}
+
+/** |dλ/dx| a camera spectroscope can have (nm/px), as the line matcher assumes by default. */
+const PLAUSIBLE_DISPERSION_NM_PER_PX: readonly [number, number] = [0.05, 2];
+
+function plausibleScale(fit: ScaleFit, extent: readonly [number, number], range: readonly [number, number]): boolean {
+  const ends = [extent[0], (extent[0] + extent[1]) / 2, extent[1]].map((x) => dispersionAtNmPerPx(fit.model, x));
+  const sign = Math.sign(fit.dispersionNmPerPx);
+  return ends.every((d) => Math.sign(d) === sign && Math.abs(d) >= range[0] / 2 && Math.abs(d) <= range[1] * 2);
 }
 
 function presentKey(identification: Identification): string {

@@ -1,6 +1,6 @@
 import { fitDispersion, type CalibrationPoint, type DispersionFit, type FittedLine } from '../calibration/fitDispersion.js';
 import { dispersionAtNmPerPx, wavelengthAtNm } from '../calibration/model.js';
-import { fitPolynomial } from '../calibration/polynomialModel.js';
+import { fitPolynomial, polynomialDispersionNmPerPx, type PolynomialModel } from '../calibration/polynomialModel.js';
 import { InputError } from '../errors.js';
 
 /**
@@ -11,6 +11,31 @@ export type ScaleFit = DispersionFit & {
   /** The calibration module's fitDispersion (≥ `SMALL_SET` lines) or the small-set fit here. */
   method: 'fitDispersion' | 'small-set';
 };
+
+/**
+ * Whether a scale's curvature is one a transmission grating in front of a camera gives: dλ/dx = d cos β · cos²(β − θc)
+ * / f, so |dλ/dx| falls towards the red with cos β (by about a quarter across 400–700 nm at 1000 lines/mm, from the
+ * grating equation; the lens term is symmetric about the axis and small). Allowed: a fall of at most
+ * MAX_FALL_PER_NM per nm of the lines' span, a rise of at most MAX_RISE (lens term, centroid errors).
+ */
+export function gratingLikeCurvature(model: PolynomialModel, points: ReadonlyArray<Pick<CalibrationPoint, 'positionPx' | 'wavelengthNm'>>): boolean {
+  let blue = points[0];
+  let red = points[0];
+  for (const p of points) {
+    if (p.wavelengthNm < blue.wavelengthNm) blue = p;
+    if (p.wavelengthNm > red.wavelengthNm) red = p;
+  }
+  const dBlue = Math.abs(polynomialDispersionNmPerPx(model, blue.positionPx));
+  const dRed = Math.abs(polynomialDispersionNmPerPx(model, red.positionPx));
+  const signs = Math.sign(polynomialDispersionNmPerPx(model, blue.positionPx)) === Math.sign(polynomialDispersionNmPerPx(model, red.positionPx));
+  const fall = (dBlue - dRed) / ((dBlue + dRed) / 2);
+  return signs && fall <= MAX_FALL_PER_NM * (red.wavelengthNm - blue.wavelengthNm) && fall >= -MAX_RISE;
+}
+
+/** Largest relative fall of |dλ/dx| per nm (1200 lines/mm gives about 1e-3 across the visible; grating equation). */
+export const MAX_FALL_PER_NM = 1.5e-3;
+/** Largest relative rise of |dλ/dx| towards the red (the lens term and centroid errors; common practice, no source). */
+export const MAX_RISE = 0.03;
 
 /** Below this many lines the scale is fitted here (see fitScale). */
 export const SMALL_SET = 8;
@@ -40,8 +65,16 @@ export function fitScale(points: readonly CalibrationPoint[]): ScaleFit | null {
     const sigmaPx = Math.max(Number.isFinite(p.positionUncertaintyPx) ? p.positionUncertaintyPx : 0.5, p.saturated ? 0.3 : 0.1);
     return { xPx: p.positionPx, wavelengthNm: p.wavelengthNm, weight: 1 / (sigmaPx * slope) ** 2 };
   });
-  const degree = points.length >= 5 ? 2 : 1;
-  const main = fitPolynomial(weighted, degree);
+  let degree = points.length >= 5 ? 2 : 1;
+  let main = fitPolynomial(weighted, degree);
+  if (points.length === 4) {
+    // Four lines leave a quadratic one degree of freedom: taken only when its curvature is one a grating gives.
+    const quadratic = fitPolynomial(weighted, 2);
+    if (quadratic && gratingLikeCurvature(quadratic.model, points)) {
+      degree = 2;
+      main = quadratic;
+    }
+  }
   if (!main) return null;
   const check = fitPolynomial(weighted, points.length >= degree + 3 ? degree + 1 : degree - 1);
   const model = main.model;
