@@ -6,8 +6,10 @@ import { HIGH_VOLTAGE_CAUTION, LASER_CAUTION, UV_CAUTION } from '../core/safety.
 import { readProfile } from '../io/profileFile.js';
 import type { IdentifyJob } from '../tasks/batch/jobs.js';
 import { batchProgress } from '../tasks/batch/progress.js';
-import { itemJson, parseWorkers, runBatch } from '../tasks/batch/runBatch.js';
-import { identifyLines, svgTarget } from '../tasks/identify.js';
+import { batchOutput } from '../tasks/batch/batchOutput.js';
+import { perInputName } from '../tasks/batch/perInputName.js';
+import { parseWorkers, runBatch } from '../tasks/batch/runBatch.js';
+import { identifyLines } from '../tasks/identify.js';
 import { action, note, printJson } from './run.js';
 
 interface IdentifyCliOptions {
@@ -69,7 +71,7 @@ export function registerIdentify(program: Command): void {
         const profile = opts.calibration ? await readProfile(opts.calibration) : undefined;
         const readFiles = [...inputs, ...(opts.calibration ? [opts.calibration] : []), ...(opts.lineList ? [opts.lineList] : [])];
         const several = inputs.length > 1;
-        if (opts.svg && readFiles.some((f) => inputs.some((i) => path.resolve(svgTarget(opts.svg!, i, several)) === path.resolve(f)))) {
+        if (opts.svg && readFiles.some((f) => inputs.some((i) => path.resolve(perInputName(opts.svg!, i, several, '.svg')) === path.resolve(f)))) {
           throw new InputError(`${opts.svg}: refusing to write over an input file; choose another output name`, opts.svg);
         }
         const progress = batchProgress('identify', inputs.length);
@@ -83,20 +85,11 @@ export function registerIdentify(program: Command): void {
           // Alone, a file's error is the command's error.
           rethrow: !several,
         }).finally(progress.stop);
-        const failed = batch.items.filter((r) => r.status === 'failed');
-        for (const f of failed) warnings.push(`${f.file}: ${f.error}`);
-        if (opts.json) {
-          const json = batch.items.map((r) => itemJson('identify', r));
-          printJson(several ? { command: 'identify', results: json, warnings } : { ...json[0], warnings: [...warnings, ...((json[0] as { warnings: string[] }).warnings ?? [])] });
-        } else {
-          for (const r of batch.items) process.stdout.write(r.status === 'failed' ? `${r.file}: not identified: ${r.error}\n` : r.result.text);
-          for (const r of batch.items) if (r.status === 'ok') for (const w of r.result.warnings) note(`glowprint: warning: ${path.basename(r.file)}: ${w}`);
-          for (const w of warnings) note(`glowprint: warning: ${w}`);
-        }
-        if (several) note(`glowprint: ${inputs.length - failed.length} of ${inputs.length} files identified${failed.length ? `, ${failed.length} failed` : ''}`);
-        if (batch.summaryFile) note(`glowprint: summary written to ${batch.summaryFile}`);
-        if (batch.reportFile) note(`glowprint: report written to ${batch.reportFile}`);
-        if (failed.length > 0) process.exitCode = 1;
+        const out = batchOutput('identify', batch, { several, warnings, done: 'identified', json: opts.json === true });
+        if (opts.json) printJson(out.json);
+        else process.stdout.write(out.text);
+        for (const line of out.notes) note(`glowprint: ${line}`);
+        if (batch.failed > 0) process.exitCode = 1;
       }),
     );
 }

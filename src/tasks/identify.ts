@@ -231,11 +231,3 @@ export function identificationSvg(r: IdentifyFileResult): string {
     wavelengthNm: r.sampleWavelengthNm ?? undefined,
   });
 }
-
-/** `--svg out.svg` for one input; `out-<input name>.svg` for each of several. */
-export function svgTarget(svg: string, input: string, several: boolean): string {
-  if (!several) return svg;
-  const ext = path.extname(svg) || '.svg';
-  return path.join(path.dirname(svg), `${path.basename(svg, ext)}-${path.basename(input, path.extname(input))}${ext}`);
-}
-

@@ -6,7 +6,10 @@
 import type { InstrumentProfile } from '../../core/calibration/profile.js';
 import type { ListedLine } from '../../core/lines/index.js';
 import { writeFileAtomic } from '../../io/writeAtomic.js';
-import { formatIdentification, identificationJson, identificationSvg, identifyFile, svgTarget } from '../identify.js';
+import type { BandGeometry } from '../../core/types.js';
+import { formatIdentification, identificationJson, identificationSvg, identifyFile } from '../identify.js';
+import { analyseSpectrumInput, formatSpectrumTable, spectrumSvg, spectrumToCsv } from '../spectrum.js';
+import { perInputName } from './perInputName.js';
 
 /** `glowprint identify` on each file: the profile and line list are read once, in the main thread. */
 export interface IdentifyJob {
@@ -21,7 +24,23 @@ export interface IdentifyJob {
   readFiles: string[];
 }
 
-export type BatchJob = IdentifyJob;
+/** `glowprint spectrum` on each file, with the options of the command (the profile read once, in the main thread). */
+export interface SpectrumJob {
+  command: 'spectrum';
+  dark?: string;
+  band?: BandGeometry;
+  maxPixels?: number;
+  transfer?: 'srgb' | 'linear';
+  calibration?: { profile: InstrumentProfile; file: string };
+  vacuum?: boolean;
+  /** `--csv`, `--svg`: one file per input (perInputName names them). */
+  csv?: string;
+  svg?: string;
+  several: boolean;
+  readFiles: string[];
+}
+
+export type BatchJob = IdentifyJob | SpectrumJob;
 export type BatchCommand = BatchJob['command'];
 
 /** One file measured: the command's JSON object (camelCase, before snake_case), its readable text and its warnings. */
@@ -36,8 +55,16 @@ export async function runJob(job: BatchJob, file: string): Promise<JobResult> {
   switch (job.command) {
     case 'identify': {
       const r = await identifyFile(file, { profile: job.profile, lines: job.lines });
-      if (job.svg) await writeFileAtomic(svgTarget(job.svg, file, job.several), identificationSvg(r), { inputs: job.readFiles });
+      if (job.svg) await writeFileAtomic(perInputName(job.svg, file, job.several, '.svg'), identificationSvg(r), { inputs: job.readFiles });
       return { json: identificationJson(r), text: formatIdentification(r), warnings: r.warnings };
+    }
+    case 'spectrum': {
+      const { command: _command, csv, svg, several, readFiles, ...options } = job;
+      const run = await analyseSpectrumInput(file, options);
+      // Outputs only once the file has been measured: a bad input leaves no half-written files.
+      if (csv) await writeFileAtomic(perInputName(csv, file, several), spectrumToCsv(run.spectrum), { inputs: readFiles });
+      if (svg) await writeFileAtomic(perInputName(svg, file, several), spectrumSvg(run), { inputs: readFiles });
+      return { json: { command: 'spectrum', ...run.analysis }, text: formatSpectrumTable(run.analysis), warnings: run.analysis.warnings };
     }
   }
 }

@@ -39,9 +39,33 @@ const IDENTIFY_COLUMNS: SummaryColumn[] = [
   { header: 'laser_wavelength_uncertainty_nm', value: (j) => num(rec(j.laser)?.wavelengthUncertaintyNm) },
 ];
 
+/** The brightest peak (by height). */
+function brightest(json: Json): Json | undefined {
+  let best: Json | undefined;
+  for (const p of arr(json.peaks)) if (!best || (num(p.height) ?? -Infinity) > (num(best.height) ?? -Infinity)) best = p;
+  return best;
+}
+
+const SPECTRUM_COLUMNS: SummaryColumn[] = [
+  { header: 'kind', value: (j) => rec(j.input)?.kind as string | undefined },
+  { header: 'width_px', value: (j) => num(rec(j.input)?.widthPx) },
+  { header: 'height_px', value: (j) => num(rec(j.input)?.heightPx) },
+  { header: 'band_angle_deg', value: (j) => num(rec(j.band)?.angleDeg) },
+  { header: 'band_length_px', value: (j) => num(rec(j.band)?.lengthPx) },
+  { header: 'samples', value: (j) => num(rec(j.spectrum)?.samples) },
+  { header: 'saturated_samples', value: (j) => num(rec(j.spectrum)?.saturatedSamples) },
+  { header: 'peaks', value: (j) => arr(j.peaks).length },
+  { header: 'brightest_peak_position_px', value: (j) => num(brightest(j)?.positionPx) },
+  { header: 'brightest_peak_wavelength_nm', value: (j) => num(brightest(j)?.wavelengthNm) },
+  { header: 'brightest_peak_wavelength_uncertainty_nm', value: (j) => num(brightest(j)?.wavelengthUncertaintyNm) },
+  { header: 'brightest_peak_snr', value: (j) => num(brightest(j)?.snr) },
+  { header: 'calibration_rms_nm', value: (j) => num(rec(j.calibration)?.rmsNm) },
+];
+
 /** Each command's answer columns, read from its result JSON (camelCase, as the task returns it). */
 export const SUMMARY_COLUMNS: Record<BatchCommand, SummaryColumn[]> = {
   identify: IDENTIFY_COLUMNS,
+  spectrum: SPECTRUM_COLUMNS,
 };
 
 function cell(v: Cell): string {
