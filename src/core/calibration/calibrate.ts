@@ -97,9 +97,10 @@ export interface CalibrateOptions {
  * Matching for a calibration works with every listed line of the lamp (see calibrationLineCatalog): more seed lines
  * per peak keep the lines a photo shows among the triplets' seeds, and solutions are also judged by how many peaks
  * land within a few σ of their lines (evidence 'windows'), which a dense full list does not dilute as it does the
- * count within the matching tolerance.
+ * count within the matching tolerance; a scale that puts three bright peaks at invisible UV wavelengths (the second
+ * order taken for the first) is no solution.
  */
-export const CALIBRATE_MATCH_DEFAULTS: Partial<MatchLinesOptions> = { seedLinesPerPeak: 4, evidence: 'windows' };
+export const CALIBRATE_MATCH_DEFAULTS: Partial<MatchLinesOptions> = { seedLinesPerPeak: 4, evidence: 'windows', maxInvisiblePeaks: 3 };
 
 export const CALIBRATE_DEFAULTS: CalibrateOptions = {
   pairs: [],

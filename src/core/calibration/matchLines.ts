@@ -68,6 +68,12 @@ export interface MatchLinesOptions {
   /** Priors of the physical model (from the photo's EXIF and geometry), to score solutions with it too. @default null */
   grating: Partial<GratingFitOptions> | null;
   /**
+   * A scale that puts this many peaks (or more, and a quarter of them) of at least median strength at wavelengths no
+   * camera records (more than INVISIBLE_MARGIN_NM below wavelengthRangeNm) is no scale of the first order: typically the second order's
+   * lines matched as the first while the first order lies beside them. 0 turns the check off. @default 0
+   */
+  maxInvisiblePeaks: number;
+  /**
    * How a solution is judged against chance: 'tolerance' — how many peaks land within the matching tolerance of a
    * line (binomial tail); 'windows' — also how many land within 1.5, 2 and 3 σ of their own position uncertainty,
    * the best of the counts deciding at four times its chance (see scoreSolution). The second suits full line lists,
@@ -93,6 +99,7 @@ export const MATCH_LINES_DEFAULTS: MatchLinesOptions = {
   minMatches: 3,
   tolerancePx: [0.25, 2.5],
   grating: null,
+  maxInvisiblePeaks: 0,
   evidence: 'tolerance',
 };
 
@@ -244,7 +251,7 @@ export function matchLines(
     if (grown >= 5 && solutions.some((s) => s.score.log10Chance <= STOP_LOG10_CHANCE)) break;
     grown++;
     const sol = growSolution(ctx, [...manual, ...seed]);
-    if (sol) solutions.push({ ...sol, score: scoreSolution(ctx, sol, parametersOf(ctx, sol.pairs)) });
+    if (sol) solutions.push(vetoInvisible(ctx, { ...sol, score: scoreSolution(ctx, sol, parametersOf(ctx, sol.pairs)) }));
   }
   if (solutions.length === 0) {
     return { ...empty(noMatchMessage(P.length, L.length, null)), hypothesesTested, solutionsGrown: grown };
@@ -282,6 +289,8 @@ export function matchLines(
     }
     solutions.sort(byScore);
   }
+  for (let i = 0; i < solutions.length; i++) solutions[i] = vetoInvisible(ctx, solutions[i]);
+  solutions.sort(byScore);
   for (const sol of solutions) {
     sol.score.log10Trials = log10Trials;
     sol.score.falseMatchProbability = Math.min(1, 10 ** (sol.score.log10Chance + log10Trials));
@@ -338,6 +347,38 @@ export function matchLines(
 function parametersOf(ctx: Ctx, pairs: readonly Pair[]): number {
   const m = fitPairsParsimonious(ctx, pairs);
   return m ? m.degree + 1 : 2;
+}
+
+/** How far below the sensitive range (nm) a peak counts as invisible light (see maxInvisiblePeaks). */
+const INVISIBLE_MARGIN_NM = 30;
+/** … and the share of the bright peaks they must also make up (a stray reflection or two beside the band is no veto). */
+const INVISIBLE_SHARE = 0.25;
+
+/**
+ * The solution, or it with no significance when its scale puts maxInvisiblePeaks peaks of at least median strength,
+ * and at least INVISIBLE_SHARE of them, below the sensitive range by more than INVISIBLE_MARGIN_NM: no phone or webcam records light there (glass optics
+ * and the sensor's cover glass absorb the UV below ~340 nm; common practice, no source), so bright peaks cannot lie
+ * there. Beyond the matched lines the scale is continued straight with its end dispersion (a polynomial's own
+ * extrapolation can turn anywhere; a grating's dispersion changes little across a band).
+ */
+function vetoInvisible(ctx: Ctx, sol: Solution): Solution {
+  const limit = ctx.o.maxInvisiblePeaks;
+  if (!(limit > 0) || sol.pairs.length < 2) return sol;
+  const strengths = ctx.P.map((p) => p.strength).sort((a, b) => a - b);
+  const median = strengths[strengths.length >> 1];
+  const first = sol.pairs[0].x;
+  const last = sol.pairs[sol.pairs.length - 1].x;
+  const uvNm = ctx.o.wavelengthRangeNm[0] - INVISIBLE_MARGIN_NM;
+  let invisible = 0;
+  let bright = 0;
+  for (const p of ctx.P) {
+    if (p.strength < median) continue;
+    bright++;
+    const end = p.x < first ? first : p.x > last ? last : p.x;
+    const lam = wavelengthAtNm(sol.model, end) + dispersionAtNmPerPx(sol.model, end) * (p.x - end);
+    if (lam < uvNm) invisible++;
+  }
+  return invisible >= Math.max(limit, INVISIBLE_SHARE * bright) ? { ...sol, score: { ...sol.score, log10Chance: 0 } } : sol;
 }
 
 function explains(s: Solution, q: Pair): boolean {

@@ -44,6 +44,10 @@ export interface SearchSettings {
   maxGrown: number;
   tolerancePx: [number, number];
   colour: ColourPriorOptions;
+  /** Sensitive range of the camera (nm). */
+  wavelengthRangeNm: [number, number];
+  /** See MatchLinesOptions.maxInvisiblePeaks. */
+  maxInvisiblePeaks: number;
   /** How matches count as evidence (see scoreSolution). */
   evidence?: 'tolerance' | 'windows';
 }
