@@ -6,9 +6,8 @@
 import type { InstrumentProfile } from '../../core/calibration/profile.js';
 import type { ListedLine } from '../../core/lines/index.js';
 import { writeFileAtomic } from '../../io/writeAtomic.js';
-import type { BandGeometry } from '../../core/types.js';
 import { formatIdentification, identificationJson, identificationSvg, identifyFile } from '../identify.js';
-import { analyseSpectrumInput, formatSpectrumTable, spectrumSvg, spectrumToCsv } from '../spectrum.js';
+import { analyseSpectrumInput, formatSpectrumTable, spectrumSvg, spectrumToCsv, type AnalyseSpectrumOptions } from '../spectrum.js';
 import { perInputName } from './perInputName.js';
 
 /** `glowprint identify` on each file: the profile and line list are read once, in the main thread. */
@@ -25,20 +24,14 @@ export interface IdentifyJob {
 }
 
 /** `glowprint spectrum` on each file, with the options of the command (the profile read once, in the main thread). */
-export interface SpectrumJob {
+export type SpectrumJob = Omit<AnalyseSpectrumOptions, 'onStage'> & {
   command: 'spectrum';
-  dark?: string;
-  band?: BandGeometry;
-  maxPixels?: number;
-  transfer?: 'srgb' | 'linear';
-  calibration?: { profile: InstrumentProfile; file: string };
-  vacuum?: boolean;
   /** `--csv`, `--svg`: one file per input (perInputName names them). */
   csv?: string;
   svg?: string;
   several: boolean;
   readFiles: string[];
-}
+};
 
 export type BatchJob = IdentifyJob | SpectrumJob;
 export type BatchCommand = BatchJob['command'];
