@@ -262,6 +262,12 @@ export function identifySelfCalibrated(peaks: readonly Peak[], options: SelfCali
       `probability ${best.probability.toFixed(2)} among the candidate scales): scores are averaged over those scales and ` +
       `${own.join(' and ')} lose${own.length > 1 ? '' : 's'} evidence for making the scale; a calibration profile gives firmer answers`,
   ];
+  if (!species.some((x) => x.present)) {
+    notes.push(
+      `no species is named: averaged over the candidate scales none reaches a score of 0.5 (the most probable scale has ` +
+        `probability ${best.probability.toFixed(2)}); the spectrum cannot calibrate itself convincingly — give a calibration profile (--calibration)`,
+    );
+  }
   const runner = evaluated.find((e) => e !== best && presentKey(e.identification) !== presentKey(best.identification) && e.joint > none);
   if (runner && best.joint - runner.joint < 3) {
     notes.push(
