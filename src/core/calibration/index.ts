@@ -53,6 +53,7 @@ export {
   PRINCIPAL_POINT_RELATIVE_SIGMA,
 } from './calibrate.js';
 export type { CalibrateOptions, CalibrationResult, GratingPriors, GratingPriorsInput } from './calibrate.js';
+export { calibrationLampLines } from './calibrationLines.js';
 export { BROAD_FEATURE_RELATIVE_SIGMA, isBroadFeature, MAX_FEATURE_WIDTH_NM, referenceUncertaintyNm } from './lineReference.js';
 export { COLOUR_PRIOR_DEFAULTS, colourAllows, colourBandNm } from './colourPrior.js';
 export type { ColourPriorOptions, ColourRule, RgbFractions } from './colourPrior.js';

@@ -1,5 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { CALIBRATE_MATCH_DEFAULTS } from '../../../src/core/calibration/calibrate.js';
+import { calibrationLampLines } from '../../../src/core/calibration/calibrationLines.js';
+import { isBroadFeature } from '../../../src/core/calibration/lineReference.js';
 import { matchLines, type MatchLinesOptions } from '../../../src/core/calibration/matchLines.js';
 import { lampLines } from '../../../src/core/lines/index.js';
 import { createRandom } from '../../../src/core/random.js';
@@ -9,9 +11,7 @@ import { syntheticCase, type SyntheticCase, type SyntheticOptions } from './synt
 
 const catalog = loadLampCatalog();
 /** Every listed line of the lamps' spectra, as `glowprint calibrate` matches with (broad bands never calibrate). */
-const everyLine = { ...catalog, lamps: catalog.lamps.map((l) => ({ ...l, select: 'all' as const })) };
-const lamp = (spec: string): SpectralLine[] =>
-  lampLines(spec, { catalog: everyLine }).lines.filter((l) => !((l as { widthNm?: number }).widthNm! > 5));
+const lamp = (spec: string): SpectralLine[] => calibrationLampLines(spec, catalog).lines.filter((l) => !isBroadFeature(l));
 
 /**
  * What a photo gives the matcher: the focal length from EXIF (±2 %) and the principal point (±1.5 % of the image

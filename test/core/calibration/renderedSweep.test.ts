@@ -12,9 +12,9 @@ import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { calibrateFromPeaks, gratingPriors } from '../../../src/core/calibration/calibrate.js';
+import { calibrationLampLines } from '../../../src/core/calibration/calibrationLines.js';
 import { wavelengthAtNm } from '../../../src/core/calibration/model.js';
 import { InputError } from '../../../src/core/errors.js';
-import { lampLines } from '../../../src/core/lines/index.js';
 import { createRandom } from '../../../src/core/random.js';
 import { renderSpectroscopePhoto, type RenderOptionsInput } from '../../../src/core/render/index.js';
 import { imageToBandPx } from '../../../src/core/spectrum/band/frame.js';
@@ -24,10 +24,8 @@ import { analyseSpectrumInput } from '../../../src/tasks/spectrum.js';
 import { tubeSource } from '../identify/renderedTubes.js';
 
 const catalog = loadLampCatalog();
-/** Every listed line of the lamp's spectra, as glowprint calibrate matches with (broad bands never calibrate). */
-const everyLine = { ...catalog, lamps: catalog.lamps.map((l) => ({ ...l, select: 'all' as const })) };
-const calibrationLines = (spec: string, resolutionNm?: number) =>
-  lampLines(spec, resolutionNm === undefined ? { catalog: everyLine } : { catalog: everyLine, resolutionNm }).lines;
+/** Every listed line of the lamp's spectra, as glowprint calibrate matches with. */
+const calibrationLines = (spec: string, resolutionNm?: number) => calibrationLampLines(spec, catalog, resolutionNm).lines;
 
 /** The tubes: their recipe for the renderer (elements and weights) and the lamp spec the user gives. */
 const TUBES: Array<{ lamp: string; recipe: Array<[string, number]> }> = [

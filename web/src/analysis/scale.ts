@@ -4,6 +4,7 @@
  * a spectrum and its peaks. All of it is the core's (src/core/calibration); this file only wires it to a capture.
  */
 import { calibrateFromPeaks, gratingPriors, type CalibrationResult } from '../../../src/core/calibration/calibrate.js';
+import { calibrationLampLines } from '../../../src/core/calibration/calibrationLines.js';
 import type { DispersionFit, ModelChoice } from '../../../src/core/calibration/fitDispersion.js';
 import type { ManualPair } from '../../../src/core/calibration/matchLines.js';
 import { dispersionAtNmPerPx, wavelengthAtNm } from '../../../src/core/calibration/model.js';
@@ -17,7 +18,6 @@ import {
   type CameraSummary,
   type InstrumentProfile,
 } from '../../../src/core/calibration/profile.js';
-import { lampLines } from '../../../src/core/lines/index.js';
 import type { BandGeometry } from '../../../src/core/types.js';
 import { lampCatalog } from '../data/catalog.js';
 import type { SpectrumCapture } from './pipeline.js';
@@ -45,7 +45,8 @@ export function calibrateCapture(capture: SpectrumCapture, options: CalibrateCap
   let lines = null;
   let lampDescription: string | null = null;
   if (options.lamp) {
-    const lamp = lampLines(options.lamp, { catalog: lampCatalog() });
+    // Every listed line of the lamp, blends re-judged at the capture's resolution: as glowprint calibrate does.
+    const lamp = calibrationLampLines(options.lamp, lampCatalog());
     lines = lamp.lines;
     lampDescription = lamp.description;
     warnings.push(...lamp.warnings);
@@ -59,7 +60,12 @@ export function calibrateCapture(capture: SpectrumCapture, options: CalibrateCap
     ...(priors.focalLengthPx ? { focalLengthPx: priors.focalLengthPx } : {}),
     ...(priors.axisPositionPx ? { axisPositionPx: priors.axisPositionPx } : {}),
   };
-  const calibration = calibrateFromPeaks(capture.peaks, lines, { pairs: options.pairs, fit: { model: options.model, grating } });
+  const spec = options.lamp;
+  const calibration = calibrateFromPeaks(capture.peaks, lines, {
+    pairs: options.pairs,
+    fit: { model: options.model, grating },
+    linesAtResolution: spec ? (resolutionNm) => calibrationLampLines(spec, lampCatalog(), resolutionNm).lines : null,
+  });
   warnings.push(...calibration.warnings);
   const profile = profileFromFit(calibration.fit, capture, {
     lamp: options.lamp ?? 'pairs',
