@@ -407,8 +407,13 @@ function weightedMedian(items: { v: number; w: number }[]): number {
 function meanOfPlanes(planes: Float32Array[], n: number): Float32Array {
   const out = new Float32Array(n);
   const inv = 1 / planes.length;
-  for (const plane of planes) for (let k = 0; k < n; k++) out[k] += plane[k] * inv;
+  for (const plane of planes) addScaled(out, plane, inv, n);
   return out;
+}
+
+/** out += plane · factor (a loop of its own, so that it is compiled once for all planes). */
+function addScaled(out: Float32Array, plane: Float32Array, factor: number, n: number): void {
+  for (let k = 0; k < n; k++) out[k] += plane[k] * factor;
 }
 
 function thresholdMask(values: Float32Array, threshold: number, mask: Uint8Array): number {

@@ -38,34 +38,29 @@ export function decimate(image: LinearImage, factor: number, saturationLevel: nu
     if (fast) rowCodes3(px, y, stride, rowOut, firstX, w, planes, clipped);
     else rowGeneral(px, y, stride, rowOut, firstX, w, planes, clipped);
   }
-  normalise(planes, clipped, sampledCounts(px.width, px.height, f, stride, w, h), w, h);
+  // Means: block (X, Y) read (sampled rows in block row Y) × (sampled columns in block column X) pixels.
+  const columns = new Float64Array(w);
+  for (let X = 0; X < w; X++) columns[X] = sampledInBlock(px.width, f, stride, X);
+  for (let Y = 0; Y < h; Y++) {
+    const rows = sampledInBlock(px.height, f, stride, Y);
+    for (const plane of planes) divideRow(plane, Y * w, w, rows, columns);
+    divideRow(clipped, Y * w, w, rows, columns);
+  }
   return { width: w, height: h, factor: f, planes, clipped };
 }
 
-/** Pixels read per block: (sampled rows in block row Y) × (sampled columns in block column X). */
-function sampledCounts(width: number, height: number, f: number, stride: number, w: number, h: number): Float32Array {
-  const along = (n: number, X: number): number => {
-    const a = Math.ceil((X * f) / stride) * stride;
-    const b = Math.min(n, (X + 1) * f);
-    return b > a ? Math.floor((b - 1 - a) / stride) + 1 : 0;
-  };
-  const cols = new Float32Array(w);
-  for (let X = 0; X < w; X++) cols[X] = along(width, X);
-  const count = new Float32Array(w * h);
-  for (let Y = 0; Y < h; Y++) {
-    const rows = along(height, Y);
-    for (let X = 0; X < w; X++) count[Y * w + X] = rows * cols[X];
+/** How many of the sampled indices 0, stride, 2·stride, … below n fall in block B = [f·B, f·B + f). */
+function sampledInBlock(n: number, f: number, stride: number, B: number): number {
+  const a = Math.ceil((B * f) / stride) * stride;
+  const b = Math.min(n, (B + 1) * f);
+  return b > a ? Math.floor((b - 1 - a) / stride) + 1 : 0;
+}
+
+function divideRow(values: Float32Array, from: number, w: number, rows: number, columns: Float64Array): void {
+  for (let X = 0; X < w; X++) {
+    const n = rows * columns[X];
+    if (n > 0) values[from + X] /= n;
   }
-  return count;
-}
-
-function normalise(planes: Float32Array[], clipped: Float32Array, count: Float32Array, w: number, h: number): void {
-  for (const plane of planes) divideBy(plane, count, w * h);
-  divideBy(clipped, count, w * h);
-}
-
-function divideBy(values: Float32Array, count: Float32Array, n: number): void {
-  for (let k = 0; k < n; k++) if (count[k] > 0) values[k] /= count[k];
 }
 
 /**

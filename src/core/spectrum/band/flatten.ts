@@ -29,12 +29,11 @@ export function flattenBackground(planes: Float32Array[], width: number, height:
     const values: number[] = [];
     for (let Y = 0; Y < cy; Y++) {
       for (let X = 0; X < cx; X++) {
-        let n = 0;
         const x1 = Math.min(width, (X + 1) * cell);
         const y1 = Math.min(height, (Y + 1) * cell);
         // Every second pixel each way in cells of 16 px or more: the percentile needs no more.
         const st = cell >= 16 ? 2 : 1;
-        for (let y = Y * cell; y < y1; y += st) for (let x = X * cell; x < x1; x += st) scratch[n++] = plane[y * width + x];
+        const n = gatherCell(plane, width, X * cell, x1, Y * cell, y1, st, scratch);
         if (n < 4) continue;
         const v = selectInPlace(scratch, n, Math.floor(0.2 * (n - 1)));
         const u = ((X * cell + x1 - 1) / 2) * sx - 1;
@@ -48,6 +47,13 @@ export function flattenBackground(planes: Float32Array[], width: number, height:
     residual.push(subtractSurface(plane, width, height, coef));
   }
   return { residual, surfaces };
+}
+
+/** Copies the pixels (x, y), x = x0, x0 + st, … < x1, y likewise, into scratch; returns how many. */
+function gatherCell(plane: Float32Array, width: number, x0: number, x1: number, y0: number, y1: number, st: number, scratch: Float32Array): number {
+  let n = 0;
+  for (let y = y0; y < y1; y += st) for (let x = x0; x < x1; x += st) scratch[n++] = plane[y * width + x];
+  return n;
 }
 
 function subtractSurface(plane: Float32Array, width: number, height: number, coef: number[]): Float32Array {
