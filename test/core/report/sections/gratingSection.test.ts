@@ -19,7 +19,10 @@ describe('gratingSection(json, {document, source})', () => {
     const density = formatWithUncertainty(screen.lines_per_mm, screen.lines_per_mm_uncertainty, 'lines/mm');
     const word = { within: 'Matches its label', outside: 'Does not match its label', cannot_tell: 'Cannot tell' }[screen.verdict as string]!;
     expect(plainText(section.verdict)).toMatch(new RegExp(`^${word}.*\\(600 lines/mm\\): measured ${density.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')}$`));
-    expect(summary.item).toBe('slide-c.json');
+    // The item is the measured input the JSON names (as for spectra), not the results file it was saved in.
+    expect(summary.item).toBe('slide-c-screen.csv');
+    const { summary: unnamed } = gratingSection({ ...screen, input: { file: null, kind: 'command-line' } }, { document, source: 'out/slide-c.json' });
+    expect(unnamed.item).toBe('slide-c.json');
     expect(plainText(summary.keyFigure)).toBe(density);
     expect(figure(section.figures, /^Verdict/)).toBe(screen.verdict_detail.explanation);
     expect(figure(section.figures, /^Tilt/)).toMatch(/\(fitted\)$/);
