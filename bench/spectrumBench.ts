@@ -41,13 +41,18 @@ export const spectrumSection: BenchSection = {
     for (const k of Object.keys(stageMs)) delete stageMs[k]; // the warm-up run is not reported
     const floorMs: number[] = [];
     const pipelineMs: number[] = [];
+    const floorCpuMs: number[] = [];
+    const pipelineCpuMs: number[] = [];
     for (let k = 0; k < RUNS; k++) {
       // Interleaved, so that load from other processes on the machine falls on both alike.
-      floorMs.push(await timeMs(floor));
-      pipelineMs.push(await timeMs(pipeline));
+      floorMs.push(await timeMs(floor, floorCpuMs));
+      pipelineMs.push(await timeMs(pipeline, pipelineCpuMs));
     }
     const floorMedian = median(floorMs);
     const pipelineMedian = median(pipelineMs);
+    // CPU time of the process (all threads: decoder, JIT, GC) is far less disturbed by other processes than wall time
+    // on a busy machine; its ratio says whether a wall-time figure off target is the code or the load.
+    const cpuRatio = median(pipelineCpuMs) / median(floorCpuMs);
 
     ctx.log('  peak memory, each in a fresh process…');
     const floorMem = probe('floor', file);
@@ -69,7 +74,8 @@ export const spectrumSection: BenchSection = {
           `median of ${RUNS}: pipeline ${pipelineMedian.toFixed(0)} ms (${peaks} peaks), sharp(file).raw().toBuffer() ` +
           `${floorMedian.toFixed(0)} ms; stage medians ${stages}. First run in a fresh process (one command-line run, ` +
           `before the JIT has compiled anything): pipeline ${pipeMem.elapsedMs.toFixed(0)} ms, decode ` +
-          `${floorMem.elapsedMs.toFixed(0)} ms = ${(pipeMem.elapsedMs / floorMem.elapsedMs).toFixed(1)}×`,
+          `${floorMem.elapsedMs.toFixed(0)} ms = ${(pipeMem.elapsedMs / floorMem.elapsedMs).toFixed(1)}×. CPU time (all threads) ` +
+          `${median(pipelineCpuMs).toFixed(0)} ms vs ${median(floorCpuMs).toFixed(0)} ms = ${cpuRatio.toFixed(2)}×`,
       },
       {
         name: 'peak memory, spectrum pipeline ÷ decoded RGB size',
@@ -109,11 +115,16 @@ async function benchPhoto(): Promise<{ widthPx: number; heightPx: number; jpeg: 
   return { widthPx, heightPx, jpeg };
 }
 
-async function timeMs(task: () => Promise<void>): Promise<number> {
+/** Wall time of one run (ms); its process CPU time (user + system, all threads, ms) is pushed onto `cpuMs`. */
+async function timeMs(task: () => Promise<void>, cpuMs: number[]): Promise<number> {
   (globalThis as { gc?: () => void }).gc?.();
+  const c0 = process.cpuUsage();
   const t0 = performance.now();
   await task();
-  return performance.now() - t0;
+  const elapsed = performance.now() - t0;
+  const c = process.cpuUsage(c0);
+  cpuMs.push((c.user + c.system) / 1000);
+  return elapsed;
 }
 
 function probe(mode: 'floor' | 'pipeline', file: string): MemoryProbeResult {
