@@ -6,6 +6,10 @@ import { DECODE_IMAGE_DEFAULTS } from '../io/image.js';
 import { readProfile } from '../io/profileFile.js';
 import { writeFileAtomic } from '../io/writeAtomic.js';
 import { analyseSpectrumInput, formatSpectrumTable, parseBandOption, spectrumSvg, spectrumToCsv } from '../tasks/spectrum.js';
+import { batchOutput } from '../tasks/batch/batchOutput.js';
+import { batchProgress } from '../tasks/batch/progress.js';
+import { perInputName } from '../tasks/batch/perInputName.js';
+import { parseWorkers, runBatch } from '../tasks/batch/runBatch.js';
 import { action, note, numberOption, printJson } from './run.js';
 
 interface SpectrumCliOptions {
@@ -18,6 +22,9 @@ interface SpectrumCliOptions {
   transfer?: 'srgb' | 'linear';
   calibration?: string;
   vacuum?: boolean;
+  workers?: string;
+  summary?: string;
+  report?: string;
 }
 
 const HELP_AFTER = `
@@ -43,6 +50,13 @@ Outputs: a table on stdout (or one JSON object with --json), warnings on stderr;
 (position_px,intensity,r,g,b,saturated), --svg a plot with the peaks marked. Existing files are replaced
 atomically; an input file is never overwritten.
 
+Batch (several inputs, e.g. photos/*.jpg): one result each, in the order given (--json prints {"results": [...],
+"warnings": [...]}), measured by worker threads across the cores (--workers N; 1 runs them one after another), with
+the same answers whatever the worker count; --csv and --svg write one file per input (out-<input>.csv). A file that
+fails is reported with its error and the others go on. --summary writes one CSV row per input, --report an HTML
+report of them all; a progress bar shows on a terminal. Exit code: 0 when every input was measured, 1 when any
+failed (after the others have been processed).
+
 Safety:
   ${HIGH_VOLTAGE_CAUTION}
   ${UV_CAUTION}
@@ -53,7 +67,7 @@ export function registerSpectrum(program: Command): void {
   program
     .command('spectrum')
     .description('Photo of a grating spectrum (or a spectrum CSV) → 1-D spectrum and its peak table')
-    .argument('<input>', 'photo (JPEG, PNG, TIFF, WebP) or spectrum CSV')
+    .argument('<inputs...>', 'photo (JPEG, PNG, TIFF, WebP) or spectrum CSV; several make a batch (see below)')
     .option('--json', 'print one JSON object instead of the table')
     .option('--csv <file>', 'write the extracted spectrum as CSV')
     .option('--svg <file>', 'write a plot of the spectrum with its peaks as SVG')
@@ -63,16 +77,21 @@ export function registerSpectrum(program: Command): void {
     .option('--vacuum', 'with --calibration: report vacuum wavelengths instead of standard-air ones')
     .option('--max-pixels <n>', 'refuse photos with more pixels than this (decompression-bomb guard)', String(DECODE_IMAGE_DEFAULTS.maxPixels))
     .addOption(new Option('--transfer <curve>', 'pixel values are sRGB-encoded or linear (default: 8-bit sRGB, 16-bit linear)').choices(['srgb', 'linear']))
+    .option('--summary <file.csv>', 'write the batch summary as CSV (one row per input: status, band, peaks, brightest peak, error)')
+    .option('--report <folder>', 'write the HTML report of all inputs into this folder (index.html, and summary.csv unless --summary says where)')
+    .option('--workers <n>', 'worker threads for several inputs (default: one per core, at most one per input; 1 = one after another in this process)')
     .addHelpText('after', HELP_AFTER)
     .action(
-      action(async (input: string, opts: SpectrumCliOptions) => {
+      action(async (files: string[], opts: SpectrumCliOptions) => {
+        const input = files[0];
+        const several = files.length > 1;
         const maxPixels = numberOption('--max-pixels', opts.maxPixels);
         if (maxPixels !== undefined && !(maxPixels >= 1)) throw new InputError(`--max-pixels: expected a pixel count ≥ 1, got ${opts.maxPixels}`, '--max-pixels');
         const band = opts.band === undefined ? undefined : parseBandOption(opts.band);
         if (opts.vacuum && !opts.calibration) throw new InputError('--vacuum needs --calibration <profile>: without one the peaks have no wavelengths', '--vacuum');
-        const inputs = [input, ...(opts.dark ? [opts.dark] : []), ...(opts.calibration ? [opts.calibration] : [])];
+        const inputs = [...files, ...(opts.dark ? [opts.dark] : []), ...(opts.calibration ? [opts.calibration] : [])];
         for (const out of [opts.csv, opts.svg]) {
-          if (out && inputs.some((f) => path.resolve(f) === path.resolve(out))) {
+          if (out && inputs.some((f) => files.some((i) => path.resolve(perInputName(out, i, several)) === path.resolve(f)))) {
             throw new InputError(`${out}: refusing to write over an input file; choose another output name`, out);
           }
         }
@@ -80,6 +99,18 @@ export function registerSpectrum(program: Command): void {
           throw new InputError(`${opts.csv}: --csv and --svg name the same file`, opts.csv);
         }
         const calibration = opts.calibration ? { profile: await readProfile(opts.calibration), file: opts.calibration } : undefined;
+        if (several || opts.summary || opts.report) {
+          // A batch (src/tasks/batch): worker threads, one result per input, a failing file reported and the rest go on.
+          const progress = batchProgress('spectrum', files.length);
+          const job = { command: 'spectrum' as const, dark: opts.dark, band, maxPixels, transfer: opts.transfer, calibration, vacuum: opts.vacuum, csv: opts.csv, svg: opts.svg, several, readFiles: inputs };
+          const batch = await runBatch(files, job, { workers: parseWorkers(opts.workers), summaryFile: opts.summary, reportDir: opts.report, readFiles: inputs, onSettled: progress.onSettled, rethrow: !several }).finally(progress.stop);
+          const out = batchOutput('spectrum', batch, { several, warnings: [], done: 'measured', json: opts.json === true });
+          if (opts.json) printJson(out.json);
+          else process.stdout.write(out.text);
+          for (const line of out.notes) note(`glowprint: ${line}`);
+          if (batch.failed > 0) process.exitCode = 1;
+          return;
+        }
         const { analysis, spectrum } = await analyseSpectrumInput(input, { dark: opts.dark, band, maxPixels, transfer: opts.transfer, calibration, vacuum: opts.vacuum });
         // Outputs are written only once everything has been measured: a bad input leaves no half-written files.
         if (opts.csv) await writeFileAtomic(opts.csv, spectrumToCsv(spectrum), { inputs });
