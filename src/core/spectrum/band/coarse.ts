@@ -71,12 +71,13 @@ export function coarseBand(dec: Decimated, residual: Float32Array[], options: Co
   const { median, sigma } = imageSigma(s3);
   const threshold = median + Math.max(options.detectionSigma * sigma, options.minSignal);
   const mask = new Uint8Array(w * h);
-  const any = thresholdMask(s3, threshold, mask);
+  const detected = thresholdMask(s3, threshold, mask);
+  const any = detected.length;
   if (any < 2) throw noSpectrum(options.source, s3, median, sigma);
   // Weight of a pixel: its signal above the background, capped at the 90th percentile of the detected pixels so that a
   // saturated zero order or lamp does not outweigh the band by its brightness alone.
-  const weight = cappedWeights(s3, mask, any, median);
-  const { components: all, labels } = labelComponents(mask, w, h, weight, residual, dec.clipped);
+  const weight = cappedWeights(s3, detected, median);
+  const { components: all, labels } = labelComponents(mask, w, h, weight, residual, dec.clipped, detected);
   let maxWeight = 0;
   for (const c of all) if (c.weight > maxWeight) maxWeight = c.weight;
   const comps = all.filter((c) => c.area >= 2 && c.weight >= 0.002 * maxWeight);
@@ -416,22 +417,25 @@ function addScaled(out: Float32Array, plane: Float32Array, factor: number, n: nu
   for (let k = 0; k < n; k++) out[k] += plane[k] * factor;
 }
 
-function thresholdMask(values: Float32Array, threshold: number, mask: Uint8Array): number {
-  let any = 0;
+/** Sets mask[k] = 1 where values[k] ≥ threshold; returns those k, ascending (the later passes visit only them). */
+function thresholdMask(values: Float32Array, threshold: number, mask: Uint8Array): Int32Array {
+  const set = new Int32Array(values.length);
+  let n = 0;
   for (let k = 0; k < values.length; k++) {
     if (values[k] >= threshold) {
       mask[k] = 1;
-      any++;
+      set[n++] = k;
     }
   }
-  return any;
+  return set.subarray(0, n);
 }
 
-function cappedWeights(values: Float32Array, mask: Uint8Array, count: number, level: number): Float32Array {
+function cappedWeights(values: Float32Array, set: Int32Array, level: number): Float32Array {
+  const count = set.length;
   const detected = new Float32Array(count);
-  for (let k = 0, n = 0; k < values.length; k++) if (mask[k]) detected[n++] = values[k] - level;
+  for (let n = 0; n < count; n++) detected[n] = values[set[n]] - level;
   const cap = selectInPlace(detected, count, Math.floor(0.9 * (count - 1)));
   const weight = new Float32Array(values.length);
-  for (let k = 0; k < values.length; k++) if (mask[k]) weight[k] = Math.min(values[k] - level, cap);
+  for (let n = 0; n < count; n++) weight[set[n]] = Math.min(values[set[n]] - level, cap);
   return weight;
 }

@@ -32,7 +32,8 @@ export interface Component {
 
 /**
  * Labels `mask` (1 = set) and accumulates the statistics. `weight` gives each pixel's w, `planes` the colour signal,
- * `clipped` a per-pixel clipped fraction.
+ * `clipped` a per-pixel clipped fraction; `setPixels` lists the set pixels in ascending order when the caller has
+ * them (a threshold pass), so that a mostly empty mask costs its set pixels, not its size.
  */
 export function labelComponents(
   mask: Uint8Array,
@@ -41,6 +42,7 @@ export function labelComponents(
   weight: Float32Array,
   planes: Float32Array[],
   clipped: Float32Array,
+  setPixels: Int32Array = setPixelsOf(mask),
 ): { components: Component[]; labels: Int32Array } {
   const labels = new Int32Array(width * height).fill(-1);
   const parent: number[] = [];
@@ -62,24 +64,24 @@ export function labelComponents(
     parent[ra] = rb;
     return rb;
   };
-  for (let y = 0; y < height; y++) {
-    for (let x = 0; x < width; x++) {
-      const k = y * width + x;
-      if (!mask[k]) continue;
-      let l = -1;
-      // Neighbours already visited: W, NW, N, NE.
-      for (let t = 0; t < 4; t++) {
-        const n =
-          t === 0 ? (x > 0 ? k - 1 : -1) : t === 1 ? (y > 0 && x > 0 ? k - width - 1 : -1) : t === 2 ? (y > 0 ? k - width : -1) : y > 0 && x < width - 1 ? k - width + 1 : -1;
-        if (n < 0 || labels[n] < 0) continue;
-        l = l < 0 ? find(labels[n]) : union(l, labels[n]);
-      }
-      if (l < 0) {
-        l = parent.length;
-        parent.push(l);
-      }
-      labels[k] = l;
+  // Every pass visits the set pixels only, in raster order (the same order as a scan of the whole image).
+  for (let s = 0; s < setPixels.length; s++) {
+    const k = setPixels[s];
+    const x = k % width;
+    const y = (k - x) / width;
+    let l = -1;
+    // Neighbours already visited: W, NW, N, NE.
+    for (let t = 0; t < 4; t++) {
+      const n =
+        t === 0 ? (x > 0 ? k - 1 : -1) : t === 1 ? (y > 0 && x > 0 ? k - width - 1 : -1) : t === 2 ? (y > 0 ? k - width : -1) : y > 0 && x < width - 1 ? k - width + 1 : -1;
+      if (n < 0 || labels[n] < 0) continue;
+      l = l < 0 ? find(labels[n]) : union(l, labels[n]);
     }
+    if (l < 0) {
+      l = parent.length;
+      parent.push(l);
+    }
+    labels[k] = l;
   }
   const index = new Int32Array(parent.length).fill(-1);
   const acc: {
@@ -100,58 +102,60 @@ export function labelComponents(
     maxY: number;
   }[] = [];
   const np = planes.length;
-  for (let y = 0; y < height; y++) {
-    for (let x = 0; x < width; x++) {
-      const k = y * width + x;
-      if (labels[k] < 0) continue;
-      const root = find(labels[k]);
-      let c = index[root];
-      if (c < 0) {
-        c = acc.length;
-        index[root] = c;
-        acc.push({
-          n: 0,
-          w: 0,
-          x: 0,
-          y: 0,
-          xx: 0,
-          xy: 0,
-          yy: 0,
-          col: new Array<number>(np).fill(0),
-          colU: new Array<number>(np).fill(0),
-          peak: -Infinity,
-          clip: 0,
-          minX: x,
-          maxX: x,
-          minY: y,
-          maxY: y,
-        });
-      }
-      const a = acc[c];
-      const w = weight[k];
-      a.n++;
-      a.w += w;
-      a.x += w * x;
-      a.y += w * y;
-      a.xx += w * x * x;
-      a.xy += w * x * y;
-      a.yy += w * y * y;
-      for (let p = 0; p < np; p++) a.col[p] += planes[p][k];
-      if (clipped[k] === 0) for (let p = 0; p < np; p++) a.colU[p] += planes[p][k];
-      if (w > a.peak) a.peak = w;
-      if (clipped[k] > 0) a.clip++;
-      if (x < a.minX) a.minX = x;
-      if (x > a.maxX) a.maxX = x;
-      if (y < a.minY) a.minY = y;
-      if (y > a.maxY) a.maxY = y;
+  for (let s = 0; s < setPixels.length; s++) {
+    const k = setPixels[s];
+    const x = k % width;
+    const y = (k - x) / width;
+    const root = find(labels[k]);
+    let c = index[root];
+    if (c < 0) {
+      c = acc.length;
+      index[root] = c;
+      acc.push({
+        n: 0,
+        w: 0,
+        x: 0,
+        y: 0,
+        xx: 0,
+        xy: 0,
+        yy: 0,
+        col: new Array<number>(np).fill(0),
+        colU: new Array<number>(np).fill(0),
+        peak: -Infinity,
+        clip: 0,
+        minX: x,
+        maxX: x,
+        minY: y,
+        maxY: y,
+      });
     }
+    const a = acc[c];
+    const w = weight[k];
+    a.n++;
+    a.w += w;
+    a.x += w * x;
+    a.y += w * y;
+    a.xx += w * x * x;
+    a.xy += w * x * y;
+    a.yy += w * y * y;
+    for (let p = 0; p < np; p++) a.col[p] += planes[p][k];
+    if (clipped[k] === 0) for (let p = 0; p < np; p++) a.colU[p] += planes[p][k];
+    if (w > a.peak) a.peak = w;
+    if (clipped[k] > 0) a.clip++;
+    if (x < a.minX) a.minX = x;
+    if (x > a.maxX) a.maxX = x;
+    if (y < a.minY) a.minY = y;
+    if (y > a.maxY) a.maxY = y;
   }
   // Labels → index into the returned list (−1: background or a component of zero weight).
   const keep = acc.map((a) => a.w > 0);
   const renumber = new Int32Array(acc.length).fill(-1);
   let next = 0;
   for (let c = 0; c < acc.length; c++) if (keep[c]) renumber[c] = next++;
-  for (let k = 0; k < labels.length; k++) if (labels[k] >= 0) labels[k] = renumber[index[find(labels[k])]];
+  for (let s = 0; s < setPixels.length; s++) {
+    const k = setPixels[s];
+    labels[k] = renumber[index[find(labels[k])]];
+  }
   const components = acc
     .filter((a) => a.w > 0)
     .map((a) => {
@@ -177,6 +181,14 @@ export function labelComponents(
       };
     });
   return { components, labels };
+}
+
+/** Indices of the set pixels of a mask, ascending. */
+export function setPixelsOf(mask: Uint8Array): Int32Array {
+  const all = new Int32Array(mask.length);
+  let n = 0;
+  for (let k = 0; k < mask.length; k++) if (mask[k]) all[n++] = k;
+  return all.subarray(0, n);
 }
 
 /** Principal axes of a component: major-axis direction (rad, in (−π/2, π/2]) and the standard deviations along both axes. */
