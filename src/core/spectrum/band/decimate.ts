@@ -32,12 +32,18 @@ export function decimate(image: LinearImage, factor: number, saturationLevel: nu
   // and its count are fixed, so the row loops sum block by block in registers and the counts are computed, not summed.
   const firstX = new Int32Array(w + 1);
   for (let X = 0; X <= w; X++) firstX[X] = Math.min(px.width, Math.ceil((X * f) / stride) * stride);
-  const fast = C === 3 && px.codeToLinear !== null && (px.clipCode & (px.clipCode + 1)) === 0;
-  for (let y = 0; y < px.height; y += stride) {
-    const rowOut = Math.floor(y / f) * w;
-    if (fast) rowCodes3(px, y, stride, rowOut, firstX, w, planes, clipped);
-    else rowGeneral(px, y, stride, rowOut, firstX, w, planes, clipped);
-  }
+  // One row function per kind of pixel, so that each stays monomorphic in the JIT.
+  const row =
+    px.codeToLinear !== null && (px.clipCode & (px.clipCode + 1)) !== 0
+      ? rowGeneral // a code table whose length is not a power of two (never built by io/image)
+      : C === 3
+        ? px.codeToLinear !== null
+          ? rowCodes3
+          : rowLinear3
+        : px.codeToLinear !== null
+          ? rowGreyCodes
+          : rowGreyLinear;
+  for (let y = 0; y < px.height; y += stride) row(px, y, stride, Math.floor(y / f) * w, firstX, w, planes, clipped);
   // Means: block (X, Y) read (sampled rows in block row Y) × (sampled columns in block column X) pixels.
   const columns = new Float64Array(w);
   for (let X = 0; X < w; X++) columns[X] = sampledInBlock(px.width, f, stride, X);
@@ -107,7 +113,108 @@ function rowCodes3(
   }
 }
 
-/** One sampled row of any other photo: grey or RGB, codes through their table or linear values (with or without flags). */
+/** One sampled row of an RGB photo in linear Float32 values; clipped by the decoder's flags, else by the level. */
+function rowLinear3(
+  px: PixelAccess,
+  y: number,
+  stride: number,
+  rowOut: number,
+  firstX: Int32Array,
+  w: number,
+  planes: Float32Array[],
+  clipped: Float32Array,
+): void {
+  const W = px.width;
+  const data = px.values as Float32Array;
+  const flags = px.saturatedFlags;
+  const level = px.saturationLevel;
+  const [r, g, b] = planes;
+  for (let X = 0; X < w; X++) {
+    const k = rowOut + X;
+    let sr = r[k];
+    let sg = g[k];
+    let sb = b[k];
+    let nc = 0;
+    for (let x = firstX[X]; x < firstX[X + 1]; x += stride) {
+      const p = y * W + x;
+      const a = 3 * p;
+      const vr = data[a];
+      const vg = data[a + 1];
+      const vb = data[a + 2];
+      sr = Math.fround(sr + vr);
+      sg = Math.fround(sg + vg);
+      sb = Math.fround(sb + vb);
+      nc += flags !== null ? (flags[p] !== 0 ? 1 : 0) : vr >= level || vg >= level || vb >= level ? 1 : 0;
+    }
+    r[k] = sr;
+    g[k] = sg;
+    b[k] = sb;
+    clipped[k] += nc;
+  }
+}
+
+/** One sampled row of a grey photo held as codes. */
+function rowGreyCodes(
+  px: PixelAccess,
+  y: number,
+  stride: number,
+  rowOut: number,
+  firstX: Int32Array,
+  w: number,
+  planes: Float32Array[],
+  clipped: Float32Array,
+): void {
+  const W = px.width;
+  const codes = px.values as Uint8Array | Uint16Array;
+  const lut = px.codeToLinear as Float32Array;
+  const clip = px.clipCode;
+  const plane = planes[0];
+  for (let X = 0; X < w; X++) {
+    const k = rowOut + X;
+    let sv = plane[k];
+    let nc = 0;
+    for (let x = firstX[X]; x < firstX[X + 1]; x += stride) {
+      const code = codes[y * W + x];
+      sv = Math.fround(sv + lut[code]);
+      nc += code === clip ? 1 : 0;
+    }
+    plane[k] = sv;
+    clipped[k] += nc;
+  }
+}
+
+/** One sampled row of a grey photo in linear Float32 values. */
+function rowGreyLinear(
+  px: PixelAccess,
+  y: number,
+  stride: number,
+  rowOut: number,
+  firstX: Int32Array,
+  w: number,
+  planes: Float32Array[],
+  clipped: Float32Array,
+): void {
+  const W = px.width;
+  const data = px.values as Float32Array;
+  const flags = px.saturatedFlags;
+  const level = px.saturationLevel;
+  const plane = planes[0];
+  for (let X = 0; X < w; X++) {
+    const k = rowOut + X;
+    let sv = plane[k];
+    let nc = 0;
+    for (let x = firstX[X]; x < firstX[X + 1]; x += stride) {
+      const p = y * W + x;
+      const v = data[p];
+      sv = Math.fround(sv + v);
+      nc += flags !== null ? (flags[p] === 1 ? 1 : 0) : v >= level ? 1 : 0;
+    }
+    plane[k] = sv;
+    clipped[k] += nc;
+  }
+}
+
+/** One sampled row of any photo, the general way (any channel count, any code table). */
 function rowGeneral(
   px: PixelAccess,
   y: number,
