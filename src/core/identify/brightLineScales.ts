@@ -117,6 +117,7 @@ export function brightLineScales(
     // scored by the peaks that land on a feature within the tolerance (widening beyond the seeds).
     const sortedTop = [...top].sort((a, b) => featureNm[a] - featureNm[b]);
     const topNm = Float64Array.from(sortedTop, (k) => featureNm[k]);
+    const q: Quadratic = { a: 0, b: 0, c: 0 };
     for (let i = 0; i < seeds.length; i++) {
       for (let j = i + 1; j < seeds.length; j++) {
         for (let k = j + 1; k < seeds.length; k++) {
@@ -146,8 +147,7 @@ export function brightLineScales(
                 const gEnd = Math.min(h, lowerBound(topNm, chordNm + windowNm + 1e-9));
                 for (let g = gFirst; g < gEnd; g++) {
                   const l1 = topNm[g];
-                  const q = close ? lineThrough(trio, [l0, l1, l2]) : quadraticThrough(trio, [l0, l1, l2]);
-                  if (!q) continue;
+                  if (!(close ? lineThrough(trio, l0, l1, l2, q) : quadraticThrough(trio, l0, l1, l2, q))) continue;
                   const s0 = q.b + 2 * q.c * trio[0];
                   const s2 = q.b + 2 * q.c * trio[2];
                   const mid = Math.abs(q.b + q.c * (trio[0] + trio[2]));
@@ -175,8 +175,10 @@ export function brightLineScales(
                   let score = 0;
                   // Kept only if among the best GROWN_PER_ELEMENT so far: stop once even a perfect rest cannot get there.
                   const bar = found.length >= GROWN_PER_ELEMENT ? worstKept(found) : -Infinity;
+                  // A match earns at most −ln(2·tol·ρ) with tol ≥ base and ρ ≥ one feature per density window.
+                  const maxCredit = Math.min(MAX_CREDIT_NATS, -Math.log(Math.min(0.5, base / DENSITY_HALF_WIDTH_NM)));
                   for (let m = 0; m < xs.length; m++) {
-                    if (score + (xs.length - m) * MAX_CREDIT_NATS < bar) break;
+                    if (score + (xs.length - m) * maxCredit < bar) break;
                     const x = xs[m];
                     const beyond = x < trio[0] ? trio[0] - x : x > trio[2] ? x - trio[2] : 0;
                     const bend = close ? curvatureNm(x, trio[0], trio[2], mid) : 0.5 * DRIFT_PER_PX * beyond * beyond * mid;
@@ -273,31 +275,38 @@ const MIN_SEED_SPAN = 0.25;
 /** Seeds closer than this share of their span fix no curvature. */
 const CLOSE_SEEDS = 0.15;
 
-/** Least-squares straight line λ = a + b x (c = 0) through the points. */
-function lineThrough(x: readonly number[], y: readonly number[]): { a: number; b: number; c: number } | null {
-  const n = x.length;
-  const mx = x.reduce((s, v) => s + v, 0) / n;
-  const my = y.reduce((s, v) => s + v, 0) / n;
-  let sxx = 0;
-  let sxy = 0;
-  for (let i = 0; i < n; i++) {
-    sxx += (x[i] - mx) ** 2;
-    sxy += (x[i] - mx) * (y[i] - my);
-  }
-  if (!(sxx > 0)) return null;
-  const b = sxy / sxx;
-  return { a: my - b * mx, b, c: 0 };
+/** A scale λ = a + b x + c x², written in place (the search tries tens of thousands). */
+interface Quadratic {
+  a: number;
+  b: number;
+  c: number;
 }
 
-/** λ = a + b x + c x² through three points; null when two positions coincide. */
-function quadraticThrough(x: readonly number[], y: readonly number[]): { a: number; b: number; c: number } | null {
+/** Least-squares straight line λ = a + b x (c = 0) through three points, into `out`; false when degenerate. */
+function lineThrough(x: readonly number[], y0: number, y1: number, y2: number, out: Quadratic): boolean {
+  const mx = (x[0] + x[1] + x[2]) / 3;
+  const my = (y0 + y1 + y2) / 3;
+  const sxx = (x[0] - mx) ** 2 + (x[1] - mx) ** 2 + (x[2] - mx) ** 2;
+  const sxy = (x[0] - mx) * (y0 - my) + (x[1] - mx) * (y1 - my) + (x[2] - mx) * (y2 - my);
+  if (!(sxx > 0)) return false;
+  out.b = sxy / sxx;
+  out.a = my - out.b * mx;
+  out.c = 0;
+  return true;
+}
+
+/** λ = a + b x + c x² through three points, into `out`; false when two positions coincide. */
+function quadraticThrough(x: readonly number[], y0: number, y1: number, y2: number, out: Quadratic): boolean {
   const [x0, x1, x2] = x;
-  const d01 = (y[1] - y[0]) / (x1 - x0);
-  const d12 = (y[2] - y[1]) / (x2 - x1);
+  const d01 = (y1 - y0) / (x1 - x0);
+  const d12 = (y2 - y1) / (x2 - x1);
   const c = (d12 - d01) / (x2 - x0);
   const b = d01 - c * (x0 + x1);
-  const a = y[0] - b * x0 - c * x0 * x0;
-  return Number.isFinite(a) && Number.isFinite(b) && Number.isFinite(c) ? { a, b, c } : null;
+  const a = y0 - b * x0 - c * x0 * x0;
+  out.a = a;
+  out.b = b;
+  out.c = c;
+  return Number.isFinite(a) && Number.isFinite(b) && Number.isFinite(c);
 }
 
 /** Three-point hypotheses grown into full assignments, per element. */

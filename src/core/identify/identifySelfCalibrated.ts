@@ -19,8 +19,8 @@ export interface SelfCalibrationOptions extends Omit<IdentifyOptions, 'rangeNm' 
   /** Lamp specs ('Ne', 'Ar+Hg'), each a set of elements whose lines (from `lines`) are tried as the calibration. */
   lamps?: readonly string[];
   /**
-   * Of `lamps`, those also given to the spacing-ratio line matcher (the costly search, worth it for line-rich
-   * spectra); every single-element lamp gets the brightest-line search. @default SELF_CALIBRATION_DEFAULTS.matcherLamps
+   * Of `lamps`, those given to the spacing-ratio line matcher (the costly search, worth it for line-rich spectra);
+   * the other single-element lamps get the brightest-line search. @default SELF_CALIBRATION_DEFAULTS.matcherLamps
    */
   matcherLamps?: readonly string[];
   /** Extent of the spectrum along the band (px): its wavelength range on each candidate scale. @default the peaks' extent */
@@ -135,10 +135,11 @@ const MIN_SCALE_LINES = 4;
 /**
  * Identification with no profile: the spectrum calibrates itself.
  *
- * 1. Candidate scales: for each lamp its lines go to the automatic line matcher (calibration/matchLines.ts); its best
- *    solution with at least 4 lines is fitted (scaleFit.ts), whether or not the matcher accepted it on its own: a
- *    lamp of few lines may be carried by what the scale explains. Solutions that put the peaks at the same
- *    wavelengths are merged. Hypotheses from the brightest peaks (brightLineScales.ts) join them.
+ * 1. Candidate scales: for each line-rich lamp (`matcherLamps`: Ne, Ar) its lines go to the automatic line matcher
+ *    (calibration/matchLines.ts); its best solution with at least 4 lines is fitted (scaleFit.ts), whether or not
+ *    the matcher accepted it on its own. Solutions that put the peaks at the same wavelengths are merged. The other
+ *    single-element lamps get scale hypotheses from their brightest peaks (brightLineScales.ts); mixtures are found
+ *    on one gas's scale, refitted in step 2. Scales that collapse or turn over across the spectrum are dropped.
  * 2. On each scale the peaks are identified with the whole line list (identifySpecies), then the scale is refitted
  *    to every single, unblended line the identification placed with confidence ≥ 0.9 and the peaks identified again;
  *    the refit is kept when it explains the peaks better.
@@ -169,7 +170,9 @@ export function identifySelfCalibrated(peaks: readonly Peak[], options: SelfCali
 
   const matcherLamps = (options.matcherLamps ?? SELF_CALIBRATION_DEFAULTS.matcherLamps).filter((l) => lamps.includes(l));
   const found = usable.length >= MIN_SCALE_LINES ? candidateScales(usable, matcherLamps, options, camera) : [];
-  if (usable.length >= MIN_SCALE_LINES) addBrightLineScales(found, usable, lamps, options, camera);
+  // The brightest-line search for the lamps the matcher leaves: for the line-rich ones it finds the matcher's scales
+  // again, at the cost of their identifications.
+  if (usable.length >= MIN_SCALE_LINES) addBrightLineScales(found, usable, lamps.filter((l) => !matcherLamps.includes(l)), options, camera);
   // A scale is physical only when its dispersion is plausible and it runs one way across the whole spectrum: a fit
   // through few lines can collapse (every peak at one wavelength) or turn over between them.
   const solutions = found.filter((s) => plausibleScale(s.fit, extent, options.match?.dispersionNmPerPx ?? PLAUSIBLE_DISPERSION_NM_PER_PX));
