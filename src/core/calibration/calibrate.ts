@@ -100,7 +100,7 @@ export interface CalibrateOptions {
  * count within the matching tolerance; a scale that puts three bright peaks at invisible UV wavelengths (the second
  * order taken for the first) is no solution.
  */
-export const CALIBRATE_MATCH_DEFAULTS: Partial<MatchLinesOptions> = { seedLinesPerPeak: 4, evidence: 'windows', maxInvisiblePeaks: 3 };
+export const CALIBRATE_MATCH_DEFAULTS: Partial<MatchLinesOptions> = { seedLinesPerPeak: 4, evidence: 'windows', invisiblePeaksVeto: 3 };
 
 export const CALIBRATE_DEFAULTS: CalibrateOptions = {
   pairs: [],

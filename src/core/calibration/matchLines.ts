@@ -68,11 +68,11 @@ export interface MatchLinesOptions {
   /** Priors of the physical model (from the photo's EXIF and geometry), to score solutions with it too. @default null */
   grating: Partial<GratingFitOptions> | null;
   /**
-   * A scale that puts this many peaks (or more, and a quarter of them) of at least median strength at wavelengths no
-   * camera records (more than INVISIBLE_MARGIN_NM below wavelengthRangeNm) is no scale of the first order: typically the second order's
-   * lines matched as the first while the first order lies beside them. 0 turns the check off. @default 0
+   * A scale that puts this many peaks of at least median strength (and a quarter of them) at wavelengths no camera
+   * records, more than INVISIBLE_MARGIN_NM below wavelengthRangeNm, is no first-order scale: typically the second
+   * order's lines matched as the first while the first order lies beside them. 0 turns the check off. @default 0
    */
-  maxInvisiblePeaks: number;
+  invisiblePeaksVeto: number;
   /**
    * How a solution is judged against chance: 'tolerance' — how many peaks land within the matching tolerance of a
    * line (binomial tail); 'windows' — also how many land within 1.5, 2 and 3 σ of their own position uncertainty,
@@ -99,7 +99,7 @@ export const MATCH_LINES_DEFAULTS: MatchLinesOptions = {
   minMatches: 3,
   tolerancePx: [0.25, 2.5],
   grating: null,
-  maxInvisiblePeaks: 0,
+  invisiblePeaksVeto: 0,
   evidence: 'tolerance',
 };
 
@@ -349,20 +349,20 @@ function parametersOf(ctx: Ctx, pairs: readonly Pair[]): number {
   return m ? m.degree + 1 : 2;
 }
 
-/** How far below the sensitive range (nm) a peak counts as invisible light (see maxInvisiblePeaks). */
+/** How far below the sensitive range (nm) a peak counts as invisible light (see invisiblePeaksVeto). */
 const INVISIBLE_MARGIN_NM = 30;
 /** … and the share of the bright peaks they must also make up (a stray reflection or two beside the band is no veto). */
 const INVISIBLE_SHARE = 0.25;
 
 /**
- * The solution, or it with no significance when its scale puts maxInvisiblePeaks peaks of at least median strength,
- * and at least INVISIBLE_SHARE of them, below the sensitive range by more than INVISIBLE_MARGIN_NM: no phone or webcam records light there (glass optics
- * and the sensor's cover glass absorb the UV below ~340 nm; common practice, no source), so bright peaks cannot lie
- * there. Beyond the matched lines the scale is continued straight with its end dispersion (a polynomial's own
- * extrapolation can turn anywhere; a grating's dispersion changes little across a band).
+ * The solution, or it with no significance when its scale puts invisiblePeaksVeto peaks of at least median strength,
+ * and at least INVISIBLE_SHARE of them, more than INVISIBLE_MARGIN_NM below the sensitive range: no phone or webcam
+ * records light there (glass optics and the sensor's cover glass absorb the UV below ~340 nm; common practice, no
+ * source), so bright peaks cannot lie there. Beyond the matched lines the scale is continued straight with its end
+ * dispersion (a polynomial's own extrapolation can turn anywhere; a grating's dispersion changes little across a band).
  */
 function vetoInvisible(ctx: Ctx, sol: Solution): Solution {
-  const limit = ctx.o.maxInvisiblePeaks;
+  const limit = ctx.o.invisiblePeaksVeto;
   if (!(limit > 0) || sol.pairs.length < 2) return sol;
   const strengths = ctx.P.map((p) => p.strength).sort((a, b) => a - b);
   const median = strengths[strengths.length >> 1];

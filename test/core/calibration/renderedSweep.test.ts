@@ -174,7 +174,7 @@ describe('calibrateFromPeaks on rendered photos (render → JPEG → decode → 
   // nm/px the peak finder flags most tube peaks as blended (neighbours within its separation), which the matcher
   // neither seeds with nor counts, and the band it finds often takes in the second order — whose lines, matched as
   // the first order, made a consistent but wrong scale in two of these photos until the invisible-peak veto
-  // (maxInvisiblePeaks) ruled such scales out. The floor sits a photo under the measurement.
+  // (invisiblePeaksVeto) ruled such scales out. The floor sits a photo under the measurement.
   it(`calibrates ≥ 3 of ${PHOTOS} seeded photos of the issue's instruments automatically and none wrongly`, async () => {
     const outcomes: Array<Awaited<ReturnType<typeof calibrateRendered>>> = [];
     for (let k = 0; k < PHOTOS; k++) outcomes.push(await calibrateRendered(k));

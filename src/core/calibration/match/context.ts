@@ -46,8 +46,8 @@ export interface SearchSettings {
   colour: ColourPriorOptions;
   /** Sensitive range of the camera (nm). */
   wavelengthRangeNm: [number, number];
-  /** See MatchLinesOptions.maxInvisiblePeaks. */
-  maxInvisiblePeaks: number;
+  /** See MatchLinesOptions.invisiblePeaksVeto. */
+  invisiblePeaksVeto: number;
   /** How matches count as evidence (see scoreSolution). */
   evidence?: 'tolerance' | 'windows';
 }
