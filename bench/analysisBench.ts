@@ -1,9 +1,9 @@
-import { applyProfileToPeaks, matchLines } from '../src/core/calibration/index.js';
+import { applyProfileToPeaks, CALIBRATE_MATCH_DEFAULTS, calibrationLampLines, matchLines } from '../src/core/calibration/index.js';
 import type { CalibratedPeak } from '../src/core/identify/identifySpecies.js';
 import { identifySpectrum } from '../src/core/identify/identifySpectrum.js';
 import { findPeaks } from '../src/core/spectrum/peaks/index.js';
 import type { Peak, SpectralLine } from '../src/core/types.js';
-import { loadLaserDefinitions, loadLineList, lampLinesFor } from '../src/io/lineList.js';
+import { loadLampCatalog, loadLaserDefinitions, loadLineList } from '../src/io/lineList.js';
 import { dataPath } from '../src/io/projectRoot.js';
 import { readProfile } from '../src/io/profileFile.js';
 import { runCalibrate } from '../src/tasks/calibrate.js';
@@ -36,8 +36,9 @@ export const analysisSection: BenchSection = {
     const { analysis, spectrum } = await analyseSpectrumInput(dataPath('demo', 'tube-b.jpg'));
     const floorMs = timeMs(() => findPeaks(spectrum), 15);
 
-    // Matching: 40 peaks from a 0.5 nm/px scale over 200 lamp lines (Ne, Ar, Hg, Kr), with 6 stray peaks.
-    const lines = lampLinesFor('Ne,Ar,Hg,Kr').lines.filter((l) => l.wavelengthNm > 380 && l.wavelengthNm < 900).slice(0, 200) as SpectralLine[];
+    // Matching as glowprint calibrate runs it (every listed line, CALIBRATE_MATCH_DEFAULTS): 40 peaks from a 0.5 nm/px
+    // scale over 200 lamp lines (Ne, Ar, Hg, Kr), with 6 stray peaks.
+    const lines = calibrationLampLines('Ne,Ar,Hg,Kr', loadLampCatalog()).lines.filter((l) => l.wavelengthNm > 380 && l.wavelengthNm < 900).slice(0, 200) as SpectralLine[];
     const step = Math.max(1, Math.floor(lines.length / 34));
     const peaks: Peak[] = [];
     for (let i = 0; i < lines.length && peaks.length < 34; i += step) {
@@ -45,7 +46,7 @@ export const analysisSection: BenchSection = {
       peaks.push({ positionPx: x, positionUncertaintyPx: 0.1, fwhmPx: 3, height: lines[i].intensity, area: lines[i].intensity, prominence: 1, snr: 100, saturated: false, blended: false });
     }
     for (let k = 0; k < 6; k++) peaks.push({ positionPx: 37 + k * 131.7, positionUncertaintyPx: 0.1, fwhmPx: 3, height: 50, area: 50, prominence: 1, snr: 40, saturated: false, blended: false });
-    const matchMs = timeMs(() => matchLines(peaks, lines), 9);
+    const matchMs = timeMs(() => matchLines(peaks, lines, CALIBRATE_MATCH_DEFAULTS), 9);
 
     const all = loadLineList();
     const lasers = loadLaserDefinitions();

@@ -8,6 +8,7 @@ import { existsSync, statSync } from 'node:fs';
 import { calibrateFromPeaks, gratingPriors, type CalibrationResult } from '../core/calibration/calibrate.js';
 import type { DispersionFit } from '../core/calibration/fitDispersion.js';
 import type { ManualPair } from '../core/calibration/matchLines.js';
+import { calibrationLampLines } from '../core/calibration/calibrationLines.js';
 import { buildProfile, type InstrumentProfile } from '../core/calibration/profile.js';
 import { InputError, parseNumberOption } from '../core/errors.js';
 import { lampLines, type LampLines } from '../core/lines/index.js';
@@ -36,18 +37,14 @@ export interface CalibrateOptions {
 }
 
 /**
- * The lines automatic matching works with: every listed line of the lamp's spectra, not only the strong ones the
- * lamp definition selects. A tube shows its weaker lines too, and a peak whose line is missing from the list either
- * goes unexplained (weakening the evidence) or lands on a listed neighbour (a wrong match); the significance test
- * allows for the denser list. A spec naming a line-list file is read as the user gave it.
+ * The lines automatic matching works with: every listed line of the lamp's spectra (calibrationLampLines, shared with
+ * the web app). A spec naming a line-list file is read as the user gave it.
  */
 export function calibrationLines(spec: string, resolutionNm?: number): LampLines {
   const tokens = spec.split(/[,+]/).map((t) => t.trim());
   const names = (t: string) => /[\\/]/.test(t) || /\.(csv|tsv|txt|ascii|dat)$/i.test(t) || (existsSync(t) && statSync(t).isFile());
   if (tokens.some(names)) return lampLinesFor(spec, resolutionNm === undefined ? {} : { resolutionNm });
-  const catalog = loadLampCatalog();
-  const everyLine = { ...catalog, lamps: catalog.lamps.map((l) => ({ ...l, select: 'all' as const })) };
-  return lampLines(spec, resolutionNm === undefined ? { catalog: everyLine } : { catalog: everyLine, resolutionNm });
+  return calibrationLampLines(spec, loadLampCatalog(), resolutionNm);
 }
 
 /** `812.4=546.074,1040.2=611.6` → pairs; each bad item is named. */
