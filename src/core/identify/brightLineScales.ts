@@ -443,13 +443,7 @@ function lowerBound(sorted: Float64Array, v: number): number {
 }
 
 function nearestWithin(sorted: Float64Array, v: number, tol: number): number {
-  let lo = 0;
-  let hi = sorted.length;
-  while (lo < hi) {
-    const mid = (lo + hi) >> 1;
-    if (sorted[mid] < v) lo = mid + 1;
-    else hi = mid;
-  }
+  const lo = lowerBound(sorted, v);
   let best = -1;
   let bestD = tol;
   for (const k of [lo - 1, lo]) {
