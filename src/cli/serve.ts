@@ -3,7 +3,6 @@ import path from 'node:path';
 import { HIGH_VOLTAGE_CAUTION, LASER_CAUTION } from '../core/safety.js';
 import { projectRoot } from '../io/projectRoot.js';
 import { SERVER_DEFAULTS } from '../server/config.js';
-import { startServer } from '../server/app.js';
 import { action, note, numberOption } from './run.js';
 
 export function registerServe(program: Command): void {
@@ -17,6 +16,9 @@ export function registerServe(program: Command): void {
     .addHelpText('after', `\nSafety:\n  ${LASER_CAUTION}\n  ${HIGH_VOLTAGE_CAUTION}\n`)
     .action(
       action(async (opts: { port: string; host: string; workspace?: string; maxUploadMb: string }) => {
+        // Loaded here, not at the top: express, the routes and their schemas cost ~1 s of start-up that no other
+        // command should pay.
+        const { startServer } = await import('../server/app.js');
         const server = await startServer({
           port: numberOption('--port', opts.port),
           host: opts.host,

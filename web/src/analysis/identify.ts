@@ -1,6 +1,6 @@
 /**
  * "Which gas is in this tube": the core's identifySpectrum on a capture, with the scale the CLI would use
- * (src/cli/identify.ts identifyFile): a profile's (the peaks and the samples carried onto its band), the CSV's own
+ * (src/tasks/identify.ts identifyFile): a profile's (the peaks and the samples carried onto its band), the CSV's own
  * wavelength axis, or — with neither — the spectrum's own lines (self-calibration, said so and with lowered
  * confidence). A single dominant line is reported as a laser with its likely kinds.
  */
