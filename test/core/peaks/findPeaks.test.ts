@@ -209,8 +209,8 @@ describe('findPeaks(spectrum) flags', () => {
     expect(peaks[0].saturated).toBe(false);
   });
 
-  it('flags two lines closer than 1.5 FWHM as blended, and an unresolved pair by its width', () => {
-    const n = 800;
+  it('flags lines the joint fit cannot separate as blended (centre correlation > 0.8), and an unresolved pair by its width', () => {
+    const n = 900;
     const rng = createRandom(12);
     const sigma = 1.5;
     const fwhm = FWHM_PER_SIGMA * sigma;
@@ -218,9 +218,12 @@ describe('findPeaks(spectrum) flags', () => {
       { center: 100, sigma, amplitude: 300 },
       { center: 200, sigma, amplitude: 250 },
       { center: 300, sigma, amplitude: 350 },
-      // resolved pair, 1.2 FWHM apart: two maxima
+      // resolved pair, 1.2 FWHM apart: two maxima, fitted together with a centre correlation ≈ 0.76 — separated
       { center: 420, sigma, amplitude: 300 },
       { center: 420 + 1.2 * fwhm, sigma, amplitude: 200 },
+      // pair 1.0 FWHM apart: a shallow dip, centre correlation ≈ 0.94 — blended
+      { center: 500, sigma, amplitude: 300 },
+      { center: 500 + 1.0 * fwhm, sigma, amplitude: 300 },
       // unresolved pair, 0.6 FWHM apart: one broad maximum
       { center: 600, sigma, amplitude: 300 },
       { center: 600 + 0.6 * fwhm, sigma, amplitude: 300 },
@@ -228,17 +231,24 @@ describe('findPeaks(spectrum) flags', () => {
     ];
     const intensity = Float64Array.from({ length: n }, (_, i) => 50 + lines.reduce((s, l) => s + gauss(i, l), 0) + rng.normal());
     const peaks = findPeaks({ positionPx: index(n), intensity });
-    const at = (x: number) => peaks.find((p) => Math.abs(p.positionPx - x) < 3)!;
-    expect(peaks.length).toBe(7);
-    for (const x of [100, 200, 300, 700]) expect(at(x).blended).toBe(false);
-    expect(at(420).blended).toBe(true);
-    expect(at(420 + 1.2 * fwhm).blended).toBe(true);
+    const at = (x: number) => peaks.find((p) => Math.abs(p.positionPx - x) < 2)!;
+    expect(peaks.length).toBe(9);
+    for (const x of [100, 200, 300, 700, 420, 420 + 1.2 * fwhm]) expect(at(x).blended).toBe(false);
+    expect(at(500).blended).toBe(true);
+    expect(at(500 + fwhm).blended).toBe(true);
     const broad = at(600 + 0.3 * fwhm);
     expect(broad.blended).toBe(true);
     expect(broad.fwhmPx).toBeGreaterThan(1.2 * fwhm);
-    // The resolved pair is fitted together: both centres within 0.1 px.
-    expect(Math.abs(at(420).positionPx - 420)).toBeLessThanOrEqual(0.1);
-    expect(Math.abs(at(420 + 1.2 * fwhm).positionPx - (420 + 1.2 * fwhm))).toBeLessThanOrEqual(0.1);
+    // The separated pair is fitted together: both centres within 0.1 px and within 3 of their stated uncertainties.
+    for (const x of [420, 420 + 1.2 * fwhm]) {
+      expect(Math.abs(at(x).positionPx - x)).toBeLessThanOrEqual(0.1);
+      expect(Math.abs(at(x).positionPx - x)).toBeLessThanOrEqual(3 * at(x).positionUncertaintyPx);
+    }
+    // A stricter correlation limit flags the 1.2-FWHM pair as well; a limit of 1 leaves only the separation test.
+    const strict = findPeaks({ positionPx: index(n), intensity }, { blendCentreCorrelation: 0.5 });
+    expect(strict.find((p) => Math.abs(p.positionPx - 420) < 2)!.blended).toBe(true);
+    const loose = findPeaks({ positionPx: index(n), intensity }, { blendCentreCorrelation: 1 });
+    expect(loose.find((p) => Math.abs(p.positionPx - 500) < 2)!.blended).toBe(false);
   });
 
   it('gives the colour of each line as channel fractions of its core', () => {
@@ -396,9 +406,11 @@ describe('findPeaks(spectrum) positions, variance and edge cases', () => {
       baselineWindowSamples: 'auto',
       fitWindowFwhm: 1.5,
       minSeparationSamples: 1,
-      blendSeparationFwhm: 1.5,
+      blendSeparationFwhm: 1,
+      blendCentreCorrelation: 0.8,
       blendWidthRatio: 1.25,
       minPositionUncertaintyPx: 0.01,
+      centreSystematicFwhm: 0.003,
       maxGroupSize: 6,
       rejectSpikes: true,
     });
