@@ -410,7 +410,7 @@ describe('findPeaks(spectrum) positions, variance and edge cases', () => {
       blendCentreCorrelation: 0.8,
       blendWidthRatio: 1.25,
       minPositionUncertaintyPx: 0.01,
-      centreSystematicFwhm: 0.003,
+      centreSystematicFwhm: 0.005,
       maxGroupSize: 6,
       rejectSpikes: true,
     });

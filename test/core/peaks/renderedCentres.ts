@@ -21,45 +21,40 @@ const SENSORS: Array<[number, number]> = [
   [1920, 1080],
 ];
 
-/** One seeded instrument: grating and focal length drawn until the centre dispersion lies in 0.3–1 nm/px. */
+/**
+ * One seeded instrument: the camera's focal length f (22–40 mm equivalent), the wavelength on the optical axis λc
+ * and the dispersion D (0.3–1 nm/px) drawn, the grating solved for them. At the axis the first order leaves at θ with
+ * sin θ = λc/d and D = d cos θ / f (d the groove spacing, nm), so (D f)² = d² − λc², d = √((D f)² + λc²).
+ */
 export function renderedInstrument(k: number): { render: RenderOptionsInput; quality: number; dispersionNmPerPx: number } {
   const rng = createRandom(4200 + 53 * k);
+  const draw = (lo: number, hi: number): number => lo + (hi - lo) * rng.uniform();
   const [widthPx, heightPx] = SENSORS[k % SENSORS.length];
-  const diag = Math.hypot(widthPx, heightPx);
-  for (;;) {
-    const linesPerMm = 300 + 900 * rng.uniform();
-    const focal35mmMm = 22 + 18 * rng.uniform();
-    const f = (focal35mmMm * diag) / Math.hypot(36, 24);
-    const axisNm = 500 + 100 * rng.uniform();
-    const sinC = (axisNm * linesPerMm) / 1e6;
-    const dispersionNmPerPx = ((1e6 / linesPerMm) * Math.sqrt(1 - sinC * sinC)) / f;
-    if (dispersionNmPerPx < 0.3 || dispersionNmPerPx > 1) continue;
-    const reversed = rng.uniform() < 0.5;
-    return {
-      dispersionNmPerPx,
-      quality: 85 + Math.round(10 * rng.uniform()),
-      render: {
-        widthPx,
-        heightPx,
-        grating: { linesPerMm, incidenceDeg: 0, orders: [{ order: 0, efficiency: 0.1 }, { order: 1, efficiency: 0.3 }] },
-        camera: { focal: { kind: '35mm', focalLength35mmMm: focal35mmMm }, cameraAngleDeg: (Math.asin(sinC) * 180) / Math.PI },
-        band: {
-          angleDeg: 6 * (rng.uniform() - 0.5) + (reversed ? 180 : 0),
-          slantDeg: 3 * (rng.uniform() - 0.5),
-          offsetPx: 0.1 * heightPx * (rng.uniform() - 0.5),
-          heightPx: Math.round(heightPx * (0.08 + 0.08 * rng.uniform())),
-          rangeNm: [400, 700],
-        },
-        lineSpread: { sigmaPx: 0.8 + 1.2 * rng.uniform(), slitWidthPx: 2 + 2 * rng.uniform(), defocusRadiusPx: 2 * rng.uniform() },
-        sensor: { fullWellElectrons: 6000 + 14000 * rng.uniform(), readNoiseElectrons: 2 + 4 * rng.uniform() },
-        exposure: { kind: 'brightestPeak', fractionOfFullWell: 0.5 + 0.4 * rng.uniform() },
-        ambient: { electrons: { r: 20 + 60 * rng.uniform(), g: 20 + 60 * rng.uniform(), b: 25 + 60 * rng.uniform() }, gradient: { x: 0.3, y: -0.2 }, vignetting: 0.25 },
-        strayLight: { fraction: 0.01 + 0.03 * rng.uniform(), sigmaPx: 30 + 40 * rng.uniform() },
-        spectralRangeNm: [380, 720],
-        seed: 700 + k,
-      },
-    };
-  }
+  const focal35mmMm = draw(22, 40);
+  const focalPx = (focal35mmMm * Math.hypot(widthPx, heightPx)) / Math.hypot(36, 24);
+  const axisNm = draw(500, 600);
+  // At least 800 nm grooves (≤ 1250 lines/mm), so that order +1 still exists at 700 nm (sin θ ≤ 0.875).
+  const dispersionNmPerPx = draw(Math.max(0.3, Math.sqrt(800 ** 2 - axisNm ** 2) / focalPx), 1);
+  const grooveNm = Math.hypot(dispersionNmPerPx * focalPx, axisNm);
+  const cameraAngleDeg = (Math.asin(axisNm / grooveNm) * 180) / Math.PI;
+  const reversed = rng.uniform() < 0.5;
+  const quality = Math.round(draw(85, 95));
+  const band = { angleDeg: draw(-3, 3) + (reversed ? 180 : 0), slantDeg: draw(-1.5, 1.5), offsetPx: draw(-0.05, 0.05) * heightPx };
+  const render: RenderOptionsInput = {
+    widthPx,
+    heightPx,
+    grating: { linesPerMm: 1e6 / grooveNm, incidenceDeg: 0, orders: [{ order: 0, efficiency: 0.1 }, { order: 1, efficiency: 0.3 }] },
+    camera: { focal: { kind: '35mm', focalLength35mmMm: focal35mmMm }, cameraAngleDeg },
+    band: { ...band, heightPx: Math.round(draw(0.08, 0.16) * heightPx), rangeNm: [400, 700] },
+    lineSpread: { sigmaPx: draw(0.8, 2), slitWidthPx: draw(2, 4), defocusRadiusPx: draw(0, 2) },
+    sensor: { fullWellElectrons: draw(6000, 20000), readNoiseElectrons: draw(2, 6) },
+    exposure: { kind: 'brightestPeak', fractionOfFullWell: draw(0.5, 0.9) },
+    ambient: { electrons: { r: draw(20, 80), g: draw(20, 80), b: draw(25, 85) }, gradient: { x: 0.3, y: -0.2 }, vignetting: 0.25 },
+    strayLight: { fraction: draw(0.01, 0.04), sigmaPx: draw(30, 70) },
+    spectralRangeNm: [380, 720],
+    seed: 700 + k,
+  };
+  return { render, quality, dispersionNmPerPx };
 }
 
 /** One measured peak paired with its true position (px along the found band). */

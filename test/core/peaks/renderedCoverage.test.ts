@@ -15,29 +15,29 @@ describe('findPeaks on rendered photos (render → JPEG 85–95 → decode → b
   const pairs = async (): Promise<PairedPeak[]> => (all ??= await pairedRenderedPeaks(PHOTOS, 30));
 
   // Measured on the 30 photos (0.3–1 nm/px, 720p/1080p), SNR ≥ 30, unsaturated, no other detected peak nor true line
-  // (of any order, however faint) within 3 FWHM: 85 lines, 73 % within 1σ, 91 % within 2σ, 95 % within 3σ. Before the
-  // systematic term (centreSystematicFwhm = 0) the same lines gave 69 %, 85 % and 95 %: the core was right, the tail
-  // too long (errors of 0.02–0.05 px where the fit claimed 0.01). The floors sit a little under the measurement.
-  it('states centre uncertainties that cover the truth for isolated strong lines: ≥ 65 % within 1σ, ≥ 89 % within 2σ', async () => {
+  // (of any order, however faint) within 3 FWHM: 79 lines, 80 % within 1σ, 94 % within 2σ, 97 % within 3σ. Without
+  // the systematic term (centreSystematicFwhm = 0) the same lines gave 63 %, 85 % and 96 %: errors of 0.02–0.05 px
+  // where the fit claimed 0.01. The floors sit a little under the measurement.
+  it('states centre uncertainties that cover the truth for isolated strong lines: ≥ 68 % within 1σ, ≥ 90 % within 2σ', async () => {
     const isolated = (await pairs()).filter((p) => p.peakGapFwhm >= 3 && p.truthGapFwhm >= 3);
     expect(isolated.length).toBeGreaterThanOrEqual(60);
-    expect(within(isolated, 1)).toBeGreaterThanOrEqual(0.65);
-    expect(within(isolated, 1)).toBeLessThanOrEqual(0.85); // and not inflated
-    expect(within(isolated, 2)).toBeGreaterThanOrEqual(0.89);
+    expect(within(isolated, 1)).toBeGreaterThanOrEqual(0.68);
+    expect(within(isolated, 1)).toBeLessThanOrEqual(0.9); // and not inflated
+    expect(within(isolated, 2)).toBeGreaterThanOrEqual(0.9);
   }, 300_000);
 
   // Lines 1.15–3 FWHM from their nearest detected neighbour whose true neighbours are as far (no hidden partner):
-  // measured 166 lines, 162 unflagged, of which 78 % / 94 % / 99 % lie within 1/2/3σ — the joint fit separates them
-  // and says how well. All 13 of those 1.2–1.5 FWHM apart stay unflagged; the former rule (another centre within
+  // measured 156 lines, 152 unflagged, of which 75 % / 91 % / 97 % lie within 1/2/3σ — the joint fit separates them
+  // and says how well. 20 of the 22 lines 1.2–1.5 FWHM apart stay unflagged; the former rule (another centre within
   // 1.5 FWHM) flagged every one of them.
   it('leaves lines 1.2–1.5 FWHM from a neighbour that the joint fit separates unflagged, with honest uncertainties', async () => {
     const close = (await pairs()).filter((p) => p.peakGapFwhm >= 1.15 && p.peakGapFwhm < 3 && p.truthGapFwhm >= 1.15);
     const unflagged = close.filter((p) => !p.peak.blended);
     expect(unflagged.length).toBeGreaterThanOrEqual(100);
     expect(within(unflagged, 1)).toBeGreaterThanOrEqual(0.68);
-    expect(within(unflagged, 2)).toBeGreaterThanOrEqual(0.9);
+    expect(within(unflagged, 2)).toBeGreaterThanOrEqual(0.88);
     const tight = close.filter((p) => p.peakGapFwhm >= 1.2 && p.peakGapFwhm < 1.5);
-    expect(tight.length).toBeGreaterThanOrEqual(8);
-    expect(tight.filter((p) => !p.peak.blended).length / tight.length).toBeGreaterThanOrEqual(0.7);
+    expect(tight.length).toBeGreaterThanOrEqual(10);
+    expect(tight.filter((p) => !p.peak.blended).length / tight.length).toBeGreaterThanOrEqual(0.75);
   }, 300_000);
 });
