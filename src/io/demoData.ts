@@ -80,12 +80,6 @@ function listBandHeads(scale: number, tailNm: number): ContinuumComponent[] {
     }));
 }
 
-/**
- * Demo-only extra: heads of the N2 first positive system in the red, FROM MEMORY and approximate (±0.5 nm), which
- * the project's line list does not carry — the "unexplained lines" of the wet hydrogen tube.
- */
-const N2_FIRST_POSITIVE_HEADS_NM = [580.4, 590.6, 601.4, 606.9, 612.7, 625.3, 632.3, 646.9, 654.5, 662.4, 670.5];
-
 /** Phosphor peaks of the fluorescent lamp definition (data/lamps.json) as Gaussian bands. */
 function phosphorBands(scale: number, broadScale: number): ContinuumComponent[] {
   const lamp = loadLampDefinitions().find((d) => d.name === 'fluorescent');
@@ -241,10 +235,10 @@ export function demoScenario(): DemoPhotoSpec[] {
       file: 'tube-d.jpg',
       role: 'tube',
       label: 'H2',
-      contents: ['H I', 'O I', 'N II', 'N2 2nd positive', 'N2+ 1st negative', 'N2 1st positive (not in the line list)'],
+      contents: ['H I', 'O I', 'N II', 'N2 2nd positive', 'N2+ 1st negative', 'N2 1st positive'],
       description:
         'Tube D, label reads "H2": an old, leaky hydrogen tube — weak Balmer lines, water-vapour and air features ' +
-        '(O I, nitrogen bands); the red N2 first-positive band heads are not in the project line list.',
+        '(O I, nitrogen atoms and bands, among them the red N2 first-positive band heads).',
       time: '14:25:30',
       setting: {
         seed: 105,
@@ -252,14 +246,6 @@ export function demoScenario(): DemoPhotoSpec[] {
           lines: listLines({ 'H I': 0.004, 'O I': 2, 'N II': 0.4 }),
           continua: [
             ...listBandHeads(60, 2.5),
-            ...N2_FIRST_POSITIVE_HEADS_NM.map((headNm) => ({
-              kind: 'bandHead' as const,
-              headNm,
-              tailNm: 3,
-              degradesTo: 'violet' as const,
-              intensity: 150,
-              label: `N2 1st positive ${headNm} nm (from memory)`,
-            })),
           ],
         },
         exposureTimeS: 1 / 15,

@@ -205,7 +205,7 @@ function spectroscopeSteps(demo: (...p: string[]) => string, work: (...p: string
         title: `Tube ${tube.slice(-1).toUpperCase()}`,
         run: async () => {
           if (!profile) profile = await readProfile(profileFile);
-          const r = await identifyFile(demo(`${tube}.jpg`), { profile, lines: loadLineList() });
+          const r = await identifyFile(demo(`${tube}.jpg`), { profile, lines: loadLineList({ includeBands: true }) });
           const extraFiles: Array<{ file: string; data: string }> = [];
           const wl = r.sampleWavelengthNm;
           if (wl) {

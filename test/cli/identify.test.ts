@@ -94,13 +94,15 @@ describe('glowprint identify', () => {
     }
   });
 
-  it('lists the leaky "hydrogen" tube\'s unexplained lines (story 1: N2 first-positive heads are not in the list)', () => {
+  it('finds the air in the leaky "hydrogen" tube (story 1): H with O, N and the N2 bands, red first-positive heads included', () => {
     const r = runCli(['identify', demo('tube-d.jpg'), '--calibration', at('cfl.json'), '--json']);
     expect(r.status, r.stderr).toBe(0);
     const json = JSON.parse(r.stdout) as JsonResult;
-    expect(json.unexplained.length).toBeGreaterThanOrEqual(3);
-    // The red band heads the truth names (580–670 nm) show up among the unexplained peaks.
-    expect(json.unexplained.some((p) => p.wavelength_nm > 575 && p.wavelength_nm < 675)).toBe(true);
+    expect(present(json)).toEqual(['H', 'N', 'N2', 'O']);
+    // The red band heads the truth names (580–670 nm) are explained by N2, not left over.
+    const red = json.peaks.filter((p) => p.wavelength_nm > 575 && p.wavelength_nm < 675 && p.line?.element === 'N2');
+    expect(red.length).toBeGreaterThanOrEqual(3);
+    expect(json.unexplained.length).toBeLessThanOrEqual(1);
     expect(json.species.find((s) => s.element === 'H')!.score).toBeGreaterThan(0.3);
   });
 
