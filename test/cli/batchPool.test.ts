@@ -1,9 +1,9 @@
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import os, { tmpdir } from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createRandom } from '../../src/core/random.js';
-import { defaultWorkerCount, runPool, type BatchItem } from '../../src/tasks/batch/pool.js';
+import { defaultWorkerCount, FILES_PER_WORKER, runPool, type BatchItem } from '../../src/tasks/batch/pool.js';
 import type { SpectrumJob } from '../../src/tasks/batch/jobs.js';
 
 // The pool itself, imported from the TypeScript source (its workers run the build in dist/, as under npm test):
@@ -68,7 +68,10 @@ describe('runPool(files, job, { workers })', () => {
     } });
     expect([...seen].sort()).toEqual(files.map((_, i) => i));
     await expect(runPool([at('bad.csv')], job(), { workers: 1, rethrow: true })).rejects.toThrow(/bad\.csv/);
+    // A small batch stays in this thread; a large one gets one worker per core.
     expect(defaultWorkerCount(1)).toBe(1);
-    expect(defaultWorkerCount(1000)).toBeGreaterThanOrEqual(1);
+    expect(defaultWorkerCount(FILES_PER_WORKER - 1)).toBe(1);
+    expect(defaultWorkerCount(2 * FILES_PER_WORKER)).toBe(Math.min(2, os.availableParallelism()));
+    expect(defaultWorkerCount(1000)).toBe(os.availableParallelism());
   }, 120_000);
 });
