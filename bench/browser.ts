@@ -15,23 +15,10 @@ import { startServer } from '../src/server/app.js';
 import { projectRoot } from '../src/io/projectRoot.js';
 import { hasChromium, launchChromium } from '../test/helpers/browser.js';
 import { type BenchFigure, type BenchSection } from './section.js';
+import type { BenchResult } from '../web/src/bench.js';
 
-/** What web/src/bench.ts returns (kept in step with BenchResult there). */
-interface PageBench {
-  frameWidthPx: number;
-  frameHeightPx: number;
-  frames: number;
-  peaks: number;
-  medianMs: number;
-  p90Ms: number;
-  meanMs: number;
-  averagedMedianMs: number;
-  floorMedianMs: number;
-  findBandMs: number;
-  captureMs: number;
-  captureSamples: number;
-  targetMs: number;
-}
+/** What the page's bench returns: the type web/src/bench.ts declares, not a copy of it. */
+type PageBench = BenchResult;
 
 const FRAMES = 400;
 
