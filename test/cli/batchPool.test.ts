@@ -1,6 +1,7 @@
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import os, { tmpdir } from 'node:os';
 import path from 'node:path';
+import { pathToFileURL } from 'node:url';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createRandom } from '../../src/core/random.js';
 import { defaultWorkerCount, FILES_PER_WORKER, runPool, type BatchItem } from '../../src/tasks/batch/pool.js';
@@ -74,4 +75,45 @@ describe('runPool(files, job, { workers })', () => {
     expect(defaultWorkerCount(2 * FILES_PER_WORKER)).toBe(Math.min(2, os.availableParallelism()));
     expect(defaultWorkerCount(1000)).toBe(os.availableParallelism());
   }, 120_000);
+});
+
+describe('runPool(files, job, { workers, workerScript }) when a worker thread dies', () => {
+  // A stand-in worker speaking the pool's messages: it answers most files, but exits the thread on "crash-*" files
+  // and throws an uncaught exception on "throw-*" files, as a native crash or a bug outside the job's promise would.
+  const script = path.join(dir, 'dying-worker.mjs');
+  beforeAll(() => {
+    writeFileSync(script, [
+      "import { parentPort } from 'node:worker_threads';",
+      'parentPort.on(\'message\', ({ index, file }) => {',
+      "  if (file.includes('crash-')) process.exit(7);",
+      "  if (file.includes('throw-')) setTimeout(() => { throw new Error('escaped the job: ' + file); });",
+      "  else parentPort.postMessage({ index, result: { json: { file }, text: file, warnings: [] } });",
+      '});',
+    ].join('\n'));
+  });
+  const names = ['a', 'crash-b', 'c', 'throw-d', 'e', 'crash-f', 'g', 'h'];
+
+  it('fails only the file in hand, names it, replaces the worker and measures the rest in input order', async () => {
+    for (const workers of [2, 3]) {
+      const items = await runPool(names, job(), { workers, workerScript: pathToFileURL(script) });
+      expect(items.map((i) => i.file)).toEqual(names);
+      for (const item of items) {
+        if (/crash-|throw-/.test(item.file)) {
+          expect(item.status).toBe('failed');
+          if (item.status !== 'failed') continue;
+          expect(item.internal).toBe(true);
+          expect(item.error).toMatch(item.file.startsWith('crash-') ? new RegExp(`${item.file}: the worker thread measuring it stopped \\(exit code 7\\)`) : /escaped the job: throw-d/);
+        } else {
+          expect(item.status).toBe('ok');
+          if (item.status === 'ok') expect(item.result.json).toEqual({ file: item.file });
+        }
+      }
+    }
+  }, 60_000);
+
+  it('goes on when every worker dies on its first file', async () => {
+    const all = ['crash-1', 'crash-2', 'crash-3', 'x'];
+    const items = await runPool(all, job(), { workers: 2, workerScript: pathToFileURL(script) });
+    expect(items.map((i) => i.status)).toEqual(['failed', 'failed', 'failed', 'ok']);
+  }, 60_000);
 });

@@ -32,6 +32,11 @@ export interface PoolOptions {
   onSettled?: (item: BatchItem, settled: number, total: number) => void;
   /** In this thread, let a file's error through instead of recording it (a single input: its error is the command's). */
   rethrow?: boolean;
+  /**
+   * The worker threads' script. @default workerUrl() — another script speaks the same messages (ToWorker in,
+   * FromWorker out); the tests give one that dies on chosen files to check that a dead worker costs only its file.
+   */
+  workerScript?: URL;
 }
 
 /**
@@ -81,7 +86,7 @@ export async function runPool(files: readonly string[], job: BatchJob, options: 
     }
     return items;
   }
-  const url = workerUrl();
+  const url = options.workerScript ?? workerUrl();
   await new Promise<void>((resolve, reject) => {
     let next = 0;
     let running = 0;
