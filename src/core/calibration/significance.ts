@@ -13,26 +13,36 @@ function logFactorial(n: number): number {
   return LOG_FACTORIAL[n];
 }
 
-function logChoose(n: number, k: number): number {
+export function logChoose(n: number, k: number): number {
   return logFactorial(n) - logFactorial(k) - logFactorial(n - k);
 }
 
-/** log10 P(X ≥ m) for X ~ Binomial(n, p), summed in log space (n is at most a few hundred here). */
+/**
+ * log10 P(X ≥ m) for X ~ Binomial(n, p). The terms follow from the first by the ratio recurrence
+ * T(k+1)/T(k) = (n − k)/(k + 1) · p/q, summed relative to the first in linear space (rescaled before they could
+ * overflow), and the sum stops once the terms past the mode fall below 1e-18 of it: no array, one exp and one log per
+ * call (the matcher calls this tens of thousands of times per search).
+ */
 export function log10BinomialTail(m: number, n: number, p: number): number {
   if (m <= 0) return 0;
   if (m > n) return -Infinity;
   if (p <= 0) return -Infinity;
   if (p >= 1) return 0;
-  const lp = Math.log(p);
-  const lq = Math.log1p(-p);
-  let maxTerm = -Infinity;
-  const terms: number[] = [];
-  for (let k = m; k <= n; k++) {
-    const t = logChoose(n, k) + k * lp + (n - k) * lq;
-    terms.push(t);
-    if (t > maxTerm) maxTerm = t;
+  const first = logChoose(n, m) + m * Math.log(p) + (n - m) * Math.log1p(-p);
+  const odds = p / (1 - p);
+  const mode = (n + 1) * p;
+  let term = 1;
+  let sum = 1;
+  let offset = 0; // ln of the factor taken out of term and sum
+  for (let k = m; k < n; k++) {
+    term *= ((n - k) / (k + 1)) * odds;
+    sum += term;
+    if (sum > 1e250) {
+      term *= 1e-250;
+      sum *= 1e-250;
+      offset += 250 * Math.LN10;
+    }
+    if (k + 1 >= mode && term < 1e-18 * sum) break;
   }
-  let sum = 0;
-  for (const t of terms) sum += Math.exp(t - maxTerm);
-  return Math.min(0, (maxTerm + Math.log(sum)) / Math.LN10);
+  return Math.min(0, (first + offset + Math.log(sum)) / Math.LN10);
 }

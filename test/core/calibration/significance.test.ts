@@ -19,6 +19,26 @@ describe('log10BinomialTail(m, n, p)', () => {
     expect(log10BinomialTail(6, 5, 0.3)).toBe(-Infinity);
     expect(log10BinomialTail(2, 5, 1)).toBe(0);
   });
+  it('equals the direct sum of the binomial terms over a grid of m, n, p', () => {
+    // Reference: Σ_{k ≥ m} C(n, k) p^k (1 − p)^(n − k), each term from exact integer binomial coefficients (BigInt);
+    // the recurrence in log10BinomialTail must agree to 1e-9 in log10 wherever the tail is representable.
+    const choose = (n: number, k: number): number => {
+      let c = 1n;
+      for (let i = 0; i < k; i++) c = (c * BigInt(n - i)) / BigInt(i + 1);
+      return Number(c);
+    };
+    for (const n of [1, 7, 30, 120]) {
+      for (const p of [0.001, 0.05, 0.3, 0.5, 0.9]) {
+        for (const m of [1, 2, Math.ceil(n / 3), n - 1, n]) {
+          if (m < 1 || m > n) continue;
+          let tail = 0;
+          for (let k = m; k <= n; k++) tail += choose(n, k) * p ** k * (1 - p) ** (n - k);
+          if (!(tail > 1e-300)) continue;
+          expect(Math.abs(log10BinomialTail(m, n, p) - Math.min(0, Math.log10(tail))), `m ${m} n ${n} p ${p}`).toBeLessThanOrEqual(1e-9);
+        }
+      }
+    }
+  });
 });
 
 describe('colourBandNm(rgb): the coarse colour prior', () => {

@@ -6,8 +6,8 @@
  */
 import { colourAllows } from '../colourPrior.js';
 import { dispersionAtNmPerPx, wavelengthAtNm, type DispersionModel } from '../model.js';
-import { modelSigmaNm } from '../uncertainty.js';
-import { type Ctx, lineSigmaNm, lowerBound, nearest, type Pair, pairKey } from './context.js';
+import { modelSigmaNm, polynomialSigmaNm } from '../uncertainty.js';
+import { type Ctx, lineSigmaNm, lowerBound, LineIndex, type Pair, samePairs } from './context.js';
 import { fitPairs, quickPolynomial, residualPx, rmsPx, robustScatterPx } from './quickFit.js';
 
 /** Tolerance above which a match is not attempted at all (px): the model is not known well enough there. */
@@ -30,23 +30,24 @@ export function matchWindow(
   maxTolPx = MAX_TOLERANCE_PX,
 ): Pair[] {
   const { P, px, L, lw, curvature, manual } = ctx;
-  const taken = new Set(manual.map((m) => m.peak).filter((k) => k >= 0));
-  const takenLines = new Set(manual.map((m) => m.line).filter((k) => k >= 0));
   const span = Math.max(region[1] - region[0], 1);
-  const best = new Map<number, { peak: number; cost: number }>(); // line → best peak
+  // Line → best peak so far, in scratch arrays reset through the list of lines touched (in the order first touched).
+  const s = windowScratch(ctx);
+  let touched = 0;
+  const isPolynomial = model.kind === 'polynomial';
   for (let q = lowerBound(px, lo); q < px.length && px[q] <= hi; q++) {
-    if (taken.has(q)) continue;
+    if (s.peakTaken[q]) continue;
     const x = px[q];
     const pred = wavelengthAtNm(model, x);
     const disp = Math.abs(dispersionAtNmPerPx(model, x));
     if (!(disp > 0) || !Number.isFinite(pred)) continue;
-    const m = nearest(lw, pred);
-    if (m < 0 || takenLines.has(m)) continue;
+    const m = s.index.nearest(pred);
+    if (m < 0 || s.lineTaken[m]) continue;
     const dist = x < region[0] ? region[0] - x : x > region[1] ? x - region[1] : 0;
     // Unmodelled curvature: a relative change of dispersion κ per px bends a straight line by ½κ·t·(t + span) at a
     // distance t beyond the fitted region; a quadratic leaves a third-order term of order κ²t²(t + span)/6.
     let allowance = 0;
-    if (model.kind === 'polynomial') {
+    if (isPolynomial) {
       allowance =
         model.degree <= 1
           ? 0.5 * curvature * dist * (dist + span)
@@ -56,19 +57,65 @@ export function matchWindow(
     }
     // The base tolerance is at least 3σ of the peak's own centroid uncertainty. The cap applies to what the model
     // does not know (a broad line is allowed its width at any resolution).
-    const positional = Math.max(tolPx, 3 * P[q].sigma) + allowance + (2 * modelSigmaNm(model, x)) / disp;
+    const sigmaNm = isPolynomial ? polynomialSigmaNm(model, x) : modelSigmaNm(model, x);
+    const positional = Math.max(tolPx, 3 * P[q].sigma) + allowance + (2 * sigmaNm) / disp;
     if (positional > maxTolPx) continue;
     const tol = positional + (2 * L[m].sigmaNm) / disp;
     const off = Math.abs(lw[m] - pred) / disp;
     if (off > tol || !colourAllows(P[q].band, lw[m])) continue;
     const cost = off / tol;
-    const prev = best.get(m);
-    if (!prev || cost < prev.cost) best.set(m, { peak: q, cost });
+    if (s.bestPeak[m] < 0) {
+      s.order[touched++] = m;
+      s.bestPeak[m] = q;
+      s.bestCost[m] = cost;
+    } else if (cost < s.bestCost[m]) {
+      s.bestPeak[m] = q;
+      s.bestCost[m] = cost;
+    }
   }
   const out: Pair[] = [...manual];
-  for (const [line, { peak }] of best) out.push({ peak, line, x: px[peak], lambda: L[line].wavelengthNm, manual: false });
+  for (let u = 0; u < touched; u++) {
+    const line = s.order[u];
+    const peak = s.bestPeak[line];
+    s.bestPeak[line] = -1;
+    out.push({ peak, line, x: px[peak], lambda: L[line].wavelengthNm, manual: false });
+  }
   out.sort((a, b) => a.x - b.x);
   return out;
+}
+
+interface WindowScratch {
+  bestPeak: Int32Array;
+  bestCost: Float64Array;
+  order: Int32Array;
+  peakTaken: Uint8Array;
+  lineTaken: Uint8Array;
+  index: LineIndex;
+}
+
+/** The search's scratch arrays for matchWindow, made once per search context (bestPeak is kept at −1 between calls). */
+const WINDOW_SCRATCH = new WeakMap<Ctx, WindowScratch>();
+
+function windowScratch(ctx: Ctx): WindowScratch {
+  let s = WINDOW_SCRATCH.get(ctx);
+  if (!s) {
+    const peakTaken = new Uint8Array(ctx.px.length);
+    const lineTaken = new Uint8Array(ctx.lw.length);
+    for (const m of ctx.manual) {
+      if (m.peak >= 0) peakTaken[m.peak] = 1;
+      if (m.line >= 0) lineTaken[m.line] = 1;
+    }
+    s = {
+      bestPeak: new Int32Array(ctx.lw.length).fill(-1),
+      bestCost: new Float64Array(ctx.lw.length),
+      order: new Int32Array(ctx.lw.length),
+      peakTaken,
+      lineTaken,
+      index: new LineIndex(ctx.lw),
+    };
+    WINDOW_SCRATCH.set(ctx, s);
+  }
+  return s;
 }
 
 export interface GrownSolution {
@@ -166,7 +213,7 @@ export function refineSolution(
     if (!refit) break;
     const region: [number, number] = [inliers[0].x, inliers[inliers.length - 1].x];
     const next = matchWindow(ctx, refit, window[0], window[1], region, tolPx, 2 * o.tolerancePx[1]);
-    const same = pairKey(next) === pairKey(pairs);
+    const same = samePairs(next, pairs);
     model = refit;
     pairs = next;
     if (same) break;

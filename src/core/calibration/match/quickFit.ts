@@ -1,5 +1,4 @@
 /** The many small polynomial fits of the line search, and residuals of pairs under any dispersion model. */
-import { invertSymmetric } from '../../fit/index.js';
 import { informationCriterion } from '../informationCriterion.js';
 import { dispersionAtNmPerPx, wavelengthAtNm, type DispersionModel } from '../model.js';
 import { polynomialDispersionNmPerPx, polynomialWavelengthNm, type PolynomialModel } from '../polynomialModel.js';
@@ -16,11 +15,13 @@ export interface QuickFit {
  * there, and several times faster than QR for the search's many small fits. Two passes: weights 1/σx² first, then
  * 1/(σx² + (σref/|dλ/dx|)²) with each line's reference uncertainty converted by the first pass's dispersion. The
  * covariance is (AᵀWA)⁻¹ on the wavelength axis, scaled by the Birge ratio when it exceeds 1, as in fitPolynomial.
+ * The normal matrix is inverted by Cholesky in flat scratch arrays (the arithmetic of invertSymmetric, whose result
+ * it equals): a search makes thousands of these fits, and their garbage was a tenth of its time.
  */
 export function quickPolynomial(ctx: Ctx, pairs: readonly Pair[], degree: number): QuickFit | null {
   const k = degree + 1;
   const n = pairs.length;
-  if (n < k) return null;
+  if (n < k || k > MAX_TERMS) return null;
   let lo = Infinity;
   let hi = -Infinity;
   for (const q of pairs) {
@@ -29,18 +30,24 @@ export function quickPolynomial(ctx: Ctx, pairs: readonly Pair[], degree: number
   }
   const centerPx = (lo + hi) / 2;
   const scalePx = Math.max((hi - lo) / 2, 1);
-  const sigmaNm = (q: Pair, model: PolynomialModel | null): number => {
-    if (!model) return sigmaOf(ctx, q); // px units in the first pass: only relative weights matter
-    return Math.hypot(sigmaOf(ctx, q) * polynomialDispersionNmPerPx(model, q.x), lineSigmaNm(ctx, q));
-  };
+  const { ata, atb, pw, inv, c } = SCRATCH;
+  let sx = SCRATCH.sx;
+  if (sx.length < n) sx = SCRATCH.sx = new Float64Array(2 * n);
+  let sr = SCRATCH.sr;
+  if (sr.length < n) sr = SCRATCH.sr = new Float64Array(2 * n);
+  for (let i = 0; i < n; i++) {
+    sx[i] = sigmaOf(ctx, pairs[i]);
+    sr[i] = lineSigmaNm(ctx, pairs[i]);
+  }
   let model: PolynomialModel | null = null;
-  let inv: number[][] | null = null;
   for (let pass = 0; pass < 2; pass++) {
-    const ata = new Float64Array(k * k);
-    const atb = new Float64Array(k);
-    const pw = new Float64Array(2 * k);
-    for (const q of pairs) {
-      const w = 1 / sigmaNm(q, model) ** 2;
+    ata.fill(0, 0, k * k);
+    atb.fill(0, 0, k);
+    for (let i = 0; i < n; i++) {
+      const q = pairs[i];
+      // σ in px in the first pass (only relative weights matter), in nm with the line's reference uncertainty after.
+      const sigma = model ? Math.hypot(sx[i] * polynomialDispersionNmPerPx(model, q.x), sr[i]) : sx[i];
+      const w = 1 / sigma ** 2;
       const t = (q.x - centerPx) / scalePx;
       pw[0] = 1;
       for (let j = 1; j < 2 * k; j++) pw[j] = pw[j - 1] * t;
@@ -49,20 +56,85 @@ export function quickPolynomial(ctx: Ctx, pairs: readonly Pair[], degree: number
         for (let b = 0; b < k; b++) ata[a * k + b] += w * pw[a + b];
       }
     }
-    inv = invertSymmetric(Array.from({ length: k }, (_, a) => Array.from(ata.subarray(a * k, a * k + k))));
-    if (!inv) return null;
-    const c = new Array<number>(k).fill(0);
-    for (let a = 0; a < k; a++) for (let b = 0; b < k; b++) c[a] += inv[a][b] * atb[b];
-    if (!c.every(Number.isFinite)) return null;
-    model = { kind: 'polynomial', degree, centerPx, scalePx, coefficientsNm: c, covariance: inv };
+    if (!invertFlat(ata, k, inv)) return null;
+    for (let a = 0; a < k; a++) {
+      let v = 0;
+      for (let b = 0; b < k; b++) v += inv[a * k + b] * atb[b];
+      c[a] = v;
+      if (!Number.isFinite(v)) return null;
+    }
+    model = { kind: 'polynomial', degree, centerPx, scalePx, coefficientsNm: Array.from(c.subarray(0, k)), covariance: [] };
   }
-  if (!model || !inv) return null;
+  if (!model) return null;
   let chi2 = 0;
-  for (const q of pairs) chi2 += ((q.lambda - polynomialWavelengthNm(model, q.x)) / sigmaNm(q, model)) ** 2;
+  for (let i = 0; i < n; i++) {
+    const q = pairs[i];
+    const sigma = Math.hypot(sx[i] * polynomialDispersionNmPerPx(model, q.x), sr[i]);
+    chi2 += ((q.lambda - polynomialWavelengthNm(model, q.x)) / sigma) ** 2;
+  }
   const dof = n - k;
   const birge = dof > 0 ? Math.max(1, chi2 / dof) : 1;
-  if (birge !== 1) model.covariance = inv.map((row) => row.map((v) => v * birge));
+  const covariance: number[][] = [];
+  for (let a = 0; a < k; a++) {
+    const row = new Array<number>(k);
+    for (let b = 0; b < k; b++) row[b] = birge !== 1 ? inv[a * k + b] * birge : inv[a * k + b];
+    covariance.push(row);
+  }
+  model.covariance = covariance;
   return { model, chi2 };
+}
+
+/** Most polynomial terms quickPolynomial fits (degree 3, with room for 4). */
+const MAX_TERMS = 5;
+const SCRATCH = {
+  ata: new Float64Array(MAX_TERMS * MAX_TERMS),
+  atb: new Float64Array(MAX_TERMS),
+  pw: new Float64Array(2 * MAX_TERMS),
+  inv: new Float64Array(MAX_TERMS * MAX_TERMS),
+  c: new Float64Array(MAX_TERMS),
+  l: new Float64Array(MAX_TERMS * MAX_TERMS),
+  li: new Float64Array(MAX_TERMS * MAX_TERMS),
+  sx: new Float64Array(64),
+  sr: new Float64Array(64),
+};
+
+/**
+ * inv ← A⁻¹ for a symmetric positive-definite k × k matrix A (row-major, flat) by Cholesky, in the order of operations
+ * of invertSymmetric (src/core/fit/matrix.ts); false when A is singular.
+ */
+function invertFlat(a: Float64Array, k: number, inv: Float64Array): boolean {
+  const { l, li } = SCRATCH;
+  l.fill(0, 0, k * k);
+  li.fill(0, 0, k * k);
+  for (let i = 0; i < k; i++) {
+    for (let j = 0; j <= i; j++) {
+      let sum = a[i * k + j];
+      for (let m = 0; m < j; m++) sum -= l[i * k + m] * l[j * k + m];
+      if (i === j) {
+        if (!(sum > 1e-300 * Math.max(1, Math.abs(a[i * k + i])))) return false;
+        l[i * k + i] = Math.sqrt(sum);
+      } else {
+        l[i * k + j] = sum / l[j * k + j];
+      }
+    }
+  }
+  for (let i = 0; i < k; i++) {
+    li[i * k + i] = 1 / l[i * k + i];
+    for (let j = 0; j < i; j++) {
+      let sum = 0;
+      for (let m = j; m < i; m++) sum -= l[i * k + m] * li[m * k + j];
+      li[i * k + j] = sum / l[i * k + i];
+    }
+  }
+  for (let i = 0; i < k; i++) {
+    for (let j = 0; j <= i; j++) {
+      let sum = 0;
+      for (let m = i; m < k; m++) sum += li[m * k + i] * li[m * k + j];
+      inv[i * k + j] = sum;
+      inv[j * k + i] = sum;
+    }
+  }
+  return true;
 }
 
 function distinctPositions(pairs: readonly Pair[]): number {

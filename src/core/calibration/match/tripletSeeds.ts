@@ -8,9 +8,8 @@
  * by ratio), both orientations; the dispersion prior, the colour prior and a single manual pair prune them; each
  * survivor is scored by how many neighbouring peaks it puts on a lamp line, against chance.
  */
-import { colourAllows } from '../colourPrior.js';
-import { log10BinomialTail } from '../significance.js';
-import { type Ctx, lowerBound, nearest, type Pair } from './context.js';
+import { log10BinomialTail, logChoose } from '../significance.js';
+import { type Ctx, lowerBound, LineIndex, type Pair } from './context.js';
 
 /** Half-width of the neighbourhood in which seed lines are ranked by brightness (nm). */
 const LOCAL_RANK_NM = 10;
@@ -22,15 +21,10 @@ const SKIP_P = 3;
 /** Most seed lines (the triplet table grows as 32 × this). */
 const MAX_SEED_LINES = 90;
 
-interface Hypothesis {
-  score: number;
-  i: number;
-  j: number;
-  k: number;
-  a: number;
-  b: number;
-  c: number;
-}
+/** Slack (in the score's log10 units) kept by the pruning bound against rounding. */
+const BOUND_MARGIN = -1e-9;
+/** Offset that marks an index into the unsupported list in the chosen codes. */
+const HYPOTHESIS_UNSUPPORTED = 1 << 30;
 
 /** Triplet hypotheses as seeds of three pairs, best local support first; `tested` counts the ratio matches examined. */
 export function tripletSeeds(ctx: Ctx): { seeds: Pair[][]; tested: number } {
@@ -70,9 +64,15 @@ export function tripletSeeds(ctx: Ctx): { seeds: Pair[][]; tested: number } {
       for (let c = b + 1; c <= b + SKIP_L && c < slw.length; c++) {
         const r = (slw[b] - slw[a]) / (slw[c] - slw[a]);
         rawRatio[t0] = r;
-        rawIdx.set([a, b, c], 3 * t0++);
+        rawIdx[3 * t0] = a;
+        rawIdx[3 * t0 + 1] = b;
+        rawIdx[3 * t0 + 2] = c;
+        t0++;
         rawRatio[t0] = 1 - r; // λ falling with x
-        rawIdx.set([c, b, a], 3 * t0++);
+        rawIdx[3 * t0] = c;
+        rawIdx[3 * t0 + 1] = b;
+        rawIdx[3 * t0 + 2] = a;
+        t0++;
       }
     }
   }
@@ -88,26 +88,58 @@ export function tripletSeeds(ctx: Ctx): { seeds: Pair[][]; tested: number } {
 
   const [dMin, dMax] = o.dispersionNmPerPx;
   const single = manual.length === 1 ? manual[0] : null;
-  const hyps: Hypothesis[] = [];
-  // Hypotheses without local support are kept only up to the number of seeds (sparse spectra have no neighbours to
-  // support anything; dense ones have plenty of supported hypotheses): this keeps the list, its sort and the garbage
-  // small.
-  const unsupported: Hypothesis[] = [];
+  // The peaks' uncertainties and colour bands in flat arrays (the verification below reads them ~10⁵–10⁶ times).
+  const sigmaOf = Float64Array.from(P, (p) => p.sigma);
+  const bandLo = Float64Array.from(P, (p) => (p.band ? p.band[0] : -Infinity));
+  const bandHi = Float64Array.from(P, (p) => (p.band ? p.band[1] : Infinity));
+  const index = new LineIndex(lw);
+  // Scratch space of the local verification: neighbours' indices, tolerances (px) and offsets from the first peak.
+  const nbIdx = new Int32Array(px.length);
+  const nbTol = new Float64Array(px.length);
+  const nbDx = new Float64Array(px.length);
+  // Hypotheses with local support, in typed arrays (score and the six indices); those without are kept only up to
+  // the number of seeds (sparse spectra have no neighbours to support anything; dense ones have plenty of supported
+  // hypotheses), which keeps the list, its selection and the garbage small.
   const nSeeds = Math.max(o.maxGrown * 4, 100);
+  const hyps = new TopHypotheses(nSeeds);
+  const unsupported = new HypothesisList(nSeeds);
   let tested = 0;
   const n = seedPeakIdx.length;
   for (let ii = 0; ii < n; ii++) {
     for (let jj = ii + 1; jj <= ii + SKIP_P && jj < n; jj++) {
       for (let kk = jj + 1; kk <= jj + SKIP_P && kk < n; kk++) {
-        const pi = P[seedPeakIdx[ii]];
-        const pj = P[seedPeakIdx[jj]];
-        const pk = P[seedPeakIdx[kk]];
-        const span = pk.x - pi.x;
+        const qi = seedPeakIdx[ii];
+        const qj = seedPeakIdx[jj];
+        const qk = seedPeakIdx[kk];
+        const xi = px[qi];
+        const xj = px[qj];
+        const xk = px[qk];
+        const span = xk - xi;
         if (!(span > 0)) continue;
-        const r = (pj.x - pi.x) / span;
+        const r = (xj - xi) / span;
         // Ratio tolerance: centroid noise (3σ, at least 0.15 px each) and the dispersion change across the triplet.
-        const sig = Math.max(pi.sigma, 0.15) + Math.max(pj.sigma, 0.15) + Math.max(pk.sigma, 0.15);
+        const sig = Math.max(sigmaOf[qi], 0.15) + Math.max(sigmaOf[qj], 0.15) + Math.max(sigmaOf[qk], 0.15);
         const tol = 0.004 + (2 * sig) / span + 0.25 * curvature * span;
+        // The neighbourhood of the local verification: the peaks between the triplet's members and up to 4 beyond
+        // it on each side, within 1.5 spans; their tolerances do not depend on the lines, so they are set once here.
+        const x0 = xi - 1.5 * span;
+        const x1 = xk + 1.5 * span;
+        const qLo = Math.max(0, qi - 4);
+        const qHi = Math.min(px.length - 1, qk + 4);
+        let nb = 0;
+        let tolSum = 0;
+        for (let q = qLo; q <= qHi; q++) {
+          if (px[q] < x0 || px[q] > x1) continue;
+          if (q === qi || q === qj || q === qk) continue;
+          const dist = q < qi ? xi - px[q] : q > qk ? px[q] - xk : 0;
+          const tolPx = 1 + 3 * sigmaOf[q] + 0.5 * curvature * dist * (dist + span);
+          if (tolPx > LOCAL_MAX_TOLERANCE_PX) continue;
+          nbIdx[nb] = q;
+          nbTol[nb] = tolPx;
+          nbDx[nb] = px[q] - xi;
+          nb++;
+          tolSum += tolPx;
+        }
         const lo = lowerBound(ratios, r - tol);
         for (let t = lo; t < ratios.length && ratios[t] <= r + tol; t++) {
           tested++;
@@ -122,63 +154,165 @@ export function tripletSeeds(ctx: Ctx): { seeds: Pair[][]; tested: number } {
           if (ad < dMin || ad > dMax) continue;
           if (o.direction === 'increasing' && disp < 0) continue;
           if (o.direction === 'decreasing' && disp > 0) continue;
-          if (!colourAllows(pi.band, la) || !colourAllows(pj.band, lb) || !colourAllows(pk.band, lc)) continue;
+          if (la < bandLo[qi] || la > bandHi[qi] || lb < bandLo[qj] || lb > bandHi[qj] || lc < bandLo[qk] || lc > bandHi[qk]) continue;
           if (single) {
-            const pred = la + disp * (single.x - pi.x);
-            const allowPx = 3 + curvature * Math.abs(single.x - (pi.x + pk.x) / 2) ** 2;
+            const pred = la + disp * (single.x - xi);
+            const allowPx = 3 + curvature * Math.abs(single.x - (xi + xk) / 2) ** 2;
             if (Math.abs(pred - single.lambda) > allowPx * ad) continue;
           }
-          // Local support: neighbouring peaks within 1.5 spans that land on any lamp line, scored against chance
-          // (binomial tail, as for whole solutions) so that dense stretches of the line list earn no credit.
-          const x0 = pi.x - 1.5 * span;
-          const x1 = pk.x + 1.5 * span;
-          let tried = 0;
+          // Local support: neighbouring peaks that land on any lamp line, scored against chance (binomial tail, as
+          // for whole solutions) so that dense stretches of the line list earn no credit.
+          const l0 = la + disp * (x0 - xi);
+          const l1 = la + disp * (x1 - xi);
+          const wlo = Math.min(l0, l1);
+          const whi = Math.max(l0, l1);
+          const count = Math.max(index.lowerBound(whi) - index.lowerBound(wlo), 1);
+          const p = Math.min(1, (2 * (tolSum / nb) * ad * count) / Math.max(whi - wlo, 1e-9));
+          // Once nSeeds supported hypotheses are held, one is looked at further only while it can still beat the
+          // worst of them: its score −log10 P(X ≥ hits) is at most −log10 of the tail's first term, and the hits
+          // can reach at most those so far plus the neighbours left (an exact bound, so the seeds are the same).
+          const prune = hyps.full();
+          const threshold = prune ? hyps.worstScore() + BOUND_MARGIN : 0;
+          const lnp = prune ? Math.log(p) : 0;
+          const lnq = prune ? Math.log1p(-p) : 0;
+          if (prune && boundScore(nb, nb, p, lnp, lnq) < threshold) continue;
           let hit = 0;
-          let tolSum = 0;
-          // The peaks between the triplet's members and up to 4 beyond it on each side, within 1.5 spans.
-          const qLo = Math.max(0, seedPeakIdx[ii] - 4);
-          const qHi = Math.min(px.length - 1, seedPeakIdx[kk] + 4);
-          for (let q = qLo; q <= qHi; q++) {
-            if (px[q] < x0 || px[q] > x1) continue;
-            if (q === seedPeakIdx[ii] || q === seedPeakIdx[jj] || q === seedPeakIdx[kk]) continue;
-            const dist = q < seedPeakIdx[ii] ? pi.x - px[q] : q > seedPeakIdx[kk] ? px[q] - pk.x : 0;
-            const tolPx = 1 + 3 * P[q].sigma + 0.5 * curvature * dist * (dist + span);
-            if (tolPx > LOCAL_MAX_TOLERANCE_PX) continue;
-            tried++;
-            tolSum += tolPx;
-            const pred = la + disp * (px[q] - pi.x);
-            const m = nearest(lw, pred);
-            if (Math.abs(lw[m] - pred) <= tolPx * ad && colourAllows(P[q].band, lw[m])) hit++;
+          let pruned = false;
+          for (let u = 0; u < nb; u++) {
+            const q = nbIdx[u];
+            const pred = la + disp * nbDx[u];
+            const l = lw[index.nearest(pred)];
+            if (Math.abs(l - pred) <= nbTol[u] * ad && l >= bandLo[q] && l <= bandHi[q]) hit++;
+            else if (prune && boundScore(hit + nb - u - 1, nb, p, lnp, lnq) < threshold) {
+              pruned = true;
+              break;
+            }
           }
-          let score = 0;
-          if (hit > 1) {
-            const l0 = la + disp * (x0 - pi.x);
-            const l1 = la + disp * (x1 - pi.x);
-            const wlo = Math.min(l0, l1);
-            const whi = Math.max(l0, l1);
-            const count = Math.max(lowerBound(lw, whi) - lowerBound(lw, wlo), 1);
-            const p = Math.min(1, (2 * (tolSum / tried) * ad * count) / Math.max(whi - wlo, 1e-9));
-            score = -log10BinomialTail(hit, tried, p);
-          }
-          if (score <= 0 && unsupported.length >= nSeeds) continue;
-          (score > 0 ? hyps : unsupported).push({
-            score,
-            i: seedPeakIdx[ii],
-            j: seedPeakIdx[jj],
-            k: seedPeakIdx[kk],
-            a: seedLineIdx[fa],
-            b: seedLineIdx[fb],
-            c: seedLineIdx[fc],
-          });
+          if (pruned) continue;
+          const score = hit > 1 ? -log10BinomialTail(hit, nb, p) : 0;
+          if (score > 0) hyps.offer(score, qi, qj, qk, seedLineIdx[fa], seedLineIdx[fb], seedLineIdx[fc]);
+          else if (unsupported.length < nSeeds) unsupported.push(score, qi, qj, qk, seedLineIdx[fa], seedLineIdx[fb], seedLineIdx[fc]);
         }
       }
     }
   }
-  hyps.sort((u, v) => v.score - u.score);
-  const seeds = [...hyps.slice(0, nSeeds), ...unsupported.slice(0, Math.max(0, nSeeds - hyps.length))].map((h) => [
-    { peak: h.i, line: h.a, x: P[h.i].x, lambda: L[h.a].wavelengthNm, manual: false },
-    { peak: h.j, line: h.b, x: P[h.j].x, lambda: L[h.b].wavelengthNm, manual: false },
-    { peak: h.k, line: h.c, x: P[h.k].x, lambda: L[h.c].wavelengthNm, manual: false },
-  ]);
+  // The nSeeds best supported hypotheses, best first (ties in the order found), then unsupported ones in the order
+  // found up to nSeeds in all.
+  const chosen = hyps.sorted();
+  for (let u = 0; chosen.length < nSeeds && u < unsupported.length; u++) chosen.push(u + HYPOTHESIS_UNSUPPORTED);
+  const seeds = chosen.map((code) => {
+    const list = code >= HYPOTHESIS_UNSUPPORTED ? unsupported : hyps;
+    const h = code >= HYPOTHESIS_UNSUPPORTED ? code - HYPOTHESIS_UNSUPPORTED : code;
+    const idx = list.idx;
+    const pair = (peak: number, line: number): Pair => ({ peak, line, x: P[peak].x, lambda: L[line].wavelengthNm, manual: false });
+    return [pair(idx[6 * h], idx[6 * h + 3]), pair(idx[6 * h + 1], idx[6 * h + 4]), pair(idx[6 * h + 2], idx[6 * h + 5])];
+  });
   return { seeds, tested };
+}
+
+/**
+ * An upper bound on a hypothesis's local score −log10 P(X ≥ h), X ~ Binomial(n, p): −log10 of the tail's first term
+ * (0 where the score is 0: fewer than two hits, or p = 1).
+ */
+function boundScore(h: number, n: number, p: number, lnp: number, lnq: number): number {
+  return h <= 1 || !(p < 1) ? 0 : -(logChoose(n, h) + h * lnp + (n - h) * lnq) / Math.LN10;
+}
+
+/** Growable list of hypotheses: a score and six indices each (peaks i, j, k; lines a, b, c). */
+class HypothesisList {
+  score: Float64Array;
+  idx: Int32Array;
+  length = 0;
+  constructor(capacity: number) {
+    this.score = new Float64Array(Math.max(capacity, 1));
+    this.idx = new Int32Array(6 * Math.max(capacity, 1));
+  }
+  push(score: number, i: number, j: number, k: number, a: number, b: number, c: number): void {
+    if (this.length === this.score.length) {
+      const s = new Float64Array(2 * this.score.length);
+      s.set(this.score);
+      this.score = s;
+      const x = new Int32Array(2 * this.idx.length);
+      x.set(this.idx);
+      this.idx = x;
+    }
+    const h = this.length++;
+    this.score[h] = score;
+    const o = 6 * h;
+    this.idx[o] = i;
+    this.idx[o + 1] = j;
+    this.idx[o + 2] = k;
+    this.idx[o + 3] = a;
+    this.idx[o + 4] = b;
+    this.idx[o + 5] = c;
+  }
+}
+
+/**
+ * The `capacity` best-scoring hypotheses offered (ties kept in the order offered, as a stable sort keeps them), in a
+ * binary min-heap on (score, −order) so that the worst is at its root.
+ */
+class TopHypotheses extends HypothesisList {
+  private heap: Int32Array;
+  private order: Float64Array;
+  private offered = 0;
+  constructor(private readonly capacity: number) {
+    super(capacity);
+    this.heap = new Int32Array(capacity);
+    this.order = new Float64Array(capacity);
+  }
+  full(): boolean {
+    return this.length >= this.capacity;
+  }
+  worstScore(): number {
+    return this.score[this.heap[0]];
+  }
+  private worse(u: number, v: number): boolean {
+    return this.score[u] < this.score[v] || (this.score[u] === this.score[v] && this.order[u] > this.order[v]);
+  }
+  offer(score: number, i: number, j: number, k: number, a: number, b: number, c: number): void {
+    const n = this.offered++;
+    if (!this.full()) {
+      const slot = this.length;
+      this.push(score, i, j, k, a, b, c);
+      this.order[slot] = n;
+      // Sift up.
+      let pos = slot;
+      this.heap[pos] = slot;
+      while (pos > 0) {
+        const up = (pos - 1) >> 1;
+        if (!this.worse(this.heap[pos], this.heap[up])) break;
+        [this.heap[pos], this.heap[up]] = [this.heap[up], this.heap[pos]];
+        pos = up;
+      }
+      return;
+    }
+    // A later hypothesis of equal score ranks after the held one: only a higher score enters.
+    if (!(score > this.worstScore())) return;
+    const slot = this.heap[0];
+    this.score[slot] = score;
+    this.order[slot] = n;
+    const o = 6 * slot;
+    this.idx[o] = i;
+    this.idx[o + 1] = j;
+    this.idx[o + 2] = k;
+    this.idx[o + 3] = a;
+    this.idx[o + 4] = b;
+    this.idx[o + 5] = c;
+    // Sift down.
+    let pos = 0;
+    for (;;) {
+      const l = 2 * pos + 1;
+      if (l >= this.length) break;
+      const r = l + 1;
+      const child = r < this.length && this.worse(this.heap[r], this.heap[l]) ? r : l;
+      if (!this.worse(this.heap[child], this.heap[pos])) break;
+      [this.heap[pos], this.heap[child]] = [this.heap[child], this.heap[pos]];
+      pos = child;
+    }
+  }
+  /** The held hypotheses' slots, best first (ties in the order offered). */
+  sorted(): number[] {
+    return Array.from({ length: this.length }, (_, h) => h).sort((u, v) => this.score[v] - this.score[u] || this.order[u] - this.order[v]);
+  }
 }
