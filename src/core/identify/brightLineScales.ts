@@ -39,6 +39,11 @@ export interface BrightLineOptions {
   keep?: number;
   /** Fewest matched lines a kept hypothesis needs (the two seeds included). @default 4 */
   minMatches?: number;
+  /**
+   * Where any colour camera sees (nm; common practice, no source): a species' strongest features here must show on a
+   * scale that covers them (see `missingNats`). @default [420, 680], as identifySpecies assumes
+   */
+  surelySeenNm?: readonly [number, number];
 }
 
 export const BRIGHT_LINE_DEFAULTS = {
@@ -51,6 +56,7 @@ export const BRIGHT_LINE_DEFAULTS = {
   scoredPeaks: 16,
   keep: 2,
   minMatches: 4,
+  surelySeenNm: [420, 680] as readonly [number, number],
 } as const;
 
 /**
@@ -95,6 +101,10 @@ export function brightLineScales(
   const seeds = byArea.slice(0, o.seedPeaks);
   // The brightest peaks are scored (a tube's brightest peaks are its gas's lines; faint ones may be anything).
   const xs = Float64Array.from(byArea.slice(0, o.scoredPeaks), (p) => p.positionPx);
+  // Every peak along the band (ascending), and a buffer for their wavelengths on a hypothesis (the missing-line test).
+  const allX = Float64Array.from(byArea, (p) => p.positionPx).sort();
+  const mapped = new Float64Array(allX.length);
+  const tols = new Float64Array(allX.length);
   const out: BrightLineScale[] = [];
   for (const t of templates) {
     const order = t.features.map((_, k) => k).sort((a, b) => t.weights[b] - t.weights[a]);
@@ -110,6 +120,11 @@ export function brightLineScales(
     const infrared = order.filter((k) => t.features[k].wavelengthNm > o.seenRangeNm[1]).slice(0, o.seedFeatures[2]);
     const top = [...new Set([...visible, ...perSpectrum, ...infrared])];
     const featureNm = Float64Array.from(t.features, (f) => f.wavelengthNm);
+    const strongNm = strongFeatureNm(t.features, o.surelySeenNm);
+    // What a peak is, a priori: the template's weight times the camera's relative response there (seenWeights).
+    const seenW = seenWeights(t.features, t.weights, o.seenRangeNm);
+    // Most prior weight a match can collect (three features inside one tolerance at most): the early stop's bound.
+    const windowWeight = [...seenW].sort((a, b) => b - a).slice(0, 3).reduce((a, b) => a + b, 0);
     let tried = 0;
     const found: Hypothesis[] = [];
     // Three seed peaks on three seed features (in either order along the band) fix a quadratic scale exactly; it
@@ -168,15 +183,15 @@ export function brightLineScales(
                     continue;
                   }
                   tried++;
-                  // Each peak on a feature counts by how unlikely chance makes it: −ln of the probability that a
-                  // peak at a random wavelength falls within the tolerance of one of the species' features. A
-                  // line-rich species or a wide tolerance (a coarse scale) gets less for each match.
+                  // Each peak on a feature counts by its likelihood ratio against a peak at a random wavelength
+                  // (matchCredit): a strong line of the species' main spectrum earns more than a faint ion line, a
+                  // wide tolerance (a coarse scale) less.
                   let count = 0;
                   let score = 0;
                   // Kept only if among the best GROWN_PER_ELEMENT so far: stop once even a perfect rest cannot get there.
                   const bar = found.length >= GROWN_PER_ELEMENT ? worstKept(found) : -Infinity;
-                  // A match earns at most −ln(2·tol·ρ) with tol ≥ base and ρ ≥ one feature per density window.
-                  const maxCredit = Math.min(MAX_CREDIT_NATS, -Math.log(Math.min(0.5, base / DENSITY_HALF_WIDTH_NM)));
+                  const spanNm = mid * peakSpanPx;
+                  const maxCredit = Math.min(MAX_CREDIT_NATS, Math.log((spanNm * windowWeight) / (2 * base)));
                   for (let m = 0; m < xs.length; m++) {
                     if (score + (xs.length - m) * maxCredit < bar) break;
                     const x = xs[m];
@@ -187,9 +202,10 @@ export function brightLineScales(
                     if (at < cameraRangeNm[0] || at > cameraRangeNm[1]) score -= OUTSIDE_NATS;
                     else if (nearestWithin(featureNm, at, tol) >= 0) {
                       count++;
-                      score += Math.min(MAX_CREDIT_NATS, -Math.log(Math.min(0.5, 2 * tol * localDensity(featureNm, at))));
+                      score += matchCredit(featureNm, seenW, at, tol, spanNm);
                     } else score -= UNMATCHED_NATS;
                   }
+                  if (count >= o.minMatches && score >= bar) score -= missingNats(strongNm, allX, mapped, tols, q, base, close, trio, mid);
                   if (count >= o.minMatches && score >= bar) {
                     const idx = reversed ? [sortedTop[h], sortedTop[g], sortedTop[f]] : [sortedTop[f], sortedTop[g], sortedTop[h]];
                     keepBest(found, { score, seeds: trio.map((x, n) => [x, idx[n]] as [number, number]) });
@@ -207,9 +223,9 @@ export function brightLineScales(
     // The best few grown, ranked again on their grown scales (a good seed triple may have scored low on its own).
     const candidates: Array<{ points: CalibrationPoint[]; model: PolynomialModel; score: number }> = [];
     for (const h of found.slice(0, GROWN_PER_ELEMENT)) {
-      const g = grow(h, byArea, t.features, featureNm, o);
+      const g = grow(h, byArea, t.features, featureNm, t.weights, o);
       if (!g || g.points.length < o.minMatches) continue;
-      candidates.push({ ...g, score: modelScore(g.model, xs, featureNm, o, cameraRangeNm) });
+      candidates.push({ ...g, score: modelScore(g.model, xs, featureNm, seenW, peakSpanPx, o, cameraRangeNm) - missingNatsOfModel(strongNm, allX, mapped, tols, g.model, o) });
     }
     candidates.sort((a, b) => b.score - a.score);
     for (const g of candidates) {
@@ -320,8 +336,9 @@ const GROWN_PER_ELEMENT = 12;
 function grow(
   h: Hypothesis,
   peaks: readonly Peak[],
-  features: ReadonlyArray<{ lines: readonly SpectralLine[]; wavelengthNm: number }>,
+  features: ReadonlyArray<{ lines: readonly SpectralLine[]; wavelengthNm: number; spreadSigmaNm: number }>,
   featureNm: Float64Array,
+  weights: Float64Array,
   o: { tolerancePx: number; minToleranceNm: number },
 ): { points: CalibrationPoint[]; model: PolynomialModel } | null {
   const assigned = new Map<number, number>(); // peak index → feature index
@@ -349,7 +366,7 @@ function grow(
     const x = peaks[i].positionPx;
     const slope = Math.abs(polynomialDispersionNmPerPx(model, x)) || 1;
     const tol = Math.max(o.tolerancePx * slope, o.minToleranceNm) + (model.degree < 2 ? curvatureNm(x, lo, hi, slope) : 0.5 * DRIFT_PER_PX * distOf(i) ** 2 * slope);
-    const k = nearestWithin(featureNm, polynomialWavelengthNm(model, x), tol);
+    const k = likeliestWithin(featureNm, weights, polynomialWavelengthNm(model, x), tol);
     if (k < 0 || used.has(k)) continue;
     // A feature with a neighbour within the line width (on this scale) is a blend here: its peak lies between them.
     const widthNm = 1.2 * peaks[i].fwhmPx * slope;
@@ -364,15 +381,21 @@ function grow(
     used.add(k);
     model = next;
   }
-  // Only single lines calibrate: a blend has no one wavelength.
+  model = polish(assigned, peaks, featureNm, weights, model, extentPx, o);
+  // A blend of lines closer than half the line width is never resolved: its peak sits at the flux centroid, which
+  // the lamp's unknown ratios put anywhere across the blend. It calibrates there with the centroid's spread as the
+  // reference uncertainty, so it weighs less than a single line but still holds the scale where it is (krypton's
+  // 556.2/557.0 nm pair in the green, between its blue lines and 587 nm). A wider blend may come out as a shoulder.
   const points: CalibrationPoint[] = [];
   for (const [i, k] of assigned) {
-    if (features[k].lines.length > 1) continue;
     const p = peaks[i];
+    const single = features[k].lines.length === 1;
+    if (!single && blendExtentNm(features[k].lines) > 0.5 * p.fwhmPx * Math.abs(polynomialDispersionNmPerPx(model, p.positionPx))) continue;
     points.push({
       positionPx: p.positionPx,
       positionUncertaintyPx: p.positionUncertaintyPx,
-      wavelengthNm: features[k].lines[0].wavelengthNm,
+      wavelengthNm: single ? features[k].lines[0].wavelengthNm : features[k].wavelengthNm,
+      ...(single ? {} : { referenceUncertaintyNm: features[k].spreadSigmaNm }),
       source: 'matched',
       saturated: p.saturated,
       blended: p.blended,
@@ -386,18 +409,135 @@ function modelScore(
   model: PolynomialModel,
   xs: Float64Array,
   featureNm: Float64Array,
+  weights: Float64Array,
+  peakSpanPx: number,
   o: { tolerancePx: number; minToleranceNm: number },
   cameraRangeNm: readonly [number, number],
 ): number {
   let score = 0;
+  let lo = Infinity;
+  let hi = -Infinity;
+  for (const x of xs) {
+    lo = Math.min(lo, x);
+    hi = Math.max(hi, x);
+  }
+  const spanNm = Math.abs(polynomialDispersionNmPerPx(model, (lo + hi) / 2)) * peakSpanPx;
   for (const x of xs) {
     const at = polynomialWavelengthNm(model, x);
     const tol = Math.max(o.tolerancePx * Math.abs(polynomialDispersionNmPerPx(model, x)), o.minToleranceNm);
     if (at < cameraRangeNm[0] || at > cameraRangeNm[1]) score -= OUTSIDE_NATS;
-    else if (nearestWithin(featureNm, at, tol) >= 0) score += Math.min(MAX_CREDIT_NATS, -Math.log(Math.min(0.5, 2 * tol * localDensity(featureNm, at))));
+    else if (nearestWithin(featureNm, at, tol) >= 0) score += matchCredit(featureNm, weights, at, tol, spanNm);
     else score -= UNMATCHED_NATS;
   }
   return score;
+}
+
+/**
+ * Relative response of a camera outside the range every camera sees well (common practice, no source): a phone's
+ * infrared-cut filter passes little beyond 700 nm and the blue response falls below 400 nm; a webcam without the
+ * filter sees the near infrared, which this allows for rather than assumes.
+ */
+const OUTSIDE_SEEN_RESPONSE = 0.2;
+
+/** The template's prior weights times the camera's relative response (1 inside `seen`, OUTSIDE_SEEN_RESPONSE beyond). */
+function seenWeights(features: ReadonlyArray<{ wavelengthNm: number }>, weights: Float64Array, seen: readonly [number, number]): Float64Array {
+  const out = Float64Array.from(weights);
+  let total = 0;
+  features.forEach((f, k) => {
+    if (f.wavelengthNm < seen[0] || f.wavelengthNm > seen[1]) out[k] *= OUTSIDE_SEEN_RESPONSE;
+    total += out[k];
+  });
+  for (let k = 0; k < out.length; k++) out[k] /= total || 1;
+  return out;
+}
+
+/**
+ * What a peak at λ on a feature is worth (nats): the likelihood ratio of "a line of this species" — the prior weights
+ * w_f of its features within the tolerance, spread over 2·tol — against "a peak at a random wavelength in the span
+ * W the peaks cover", ln(W Σ w_f / 2 tol) (the box-kernel form of identifySpecies' position term). A faint line of a
+ * minor spectrum may be worth less than nothing; it then costs as an unmatched peak does. At most MAX_CREDIT_NATS.
+ */
+function matchCredit(featureNm: Float64Array, weights: Float64Array, at: number, tol: number, spanNm: number): number {
+  let w = 0;
+  for (let k = lowerBound(featureNm, at - tol); k < featureNm.length && featureNm[k] <= at + tol; k++) w += weights[k];
+  return Math.max(-UNMATCHED_NATS, Math.min(MAX_CREDIT_NATS, Math.log((spanNm * w) / (2 * tol))));
+}
+
+function blendExtentNm(lines: readonly SpectralLine[]): number {
+  let lo = Infinity;
+  let hi = -Infinity;
+  for (const l of lines) {
+    lo = Math.min(lo, l.wavelengthNm);
+    hi = Math.max(hi, l.wavelengthNm);
+  }
+  return hi - lo;
+}
+
+/** Growth's residuals beyond 3 robust σ are clipped, but never below this (px). */
+const POLISH_FLOOR_PX = 0.5;
+/** The rematch on the clipped scale takes a peak within this many px of a feature. */
+const POLISH_TOLERANCE_PX = 1.5;
+
+/**
+ * Growth takes each peak within a tolerance widened for extrapolation, so at the ends of the band a faint neighbouring
+ * line (an ion line beside a neutral one, or a line the list lacks beside one it has) can be taken and bend the scale.
+ * The grown scale is polished: the worst residual beyond 3 robust σ (1.4826 × the median |residual|, at least
+ * POLISH_FLOOR_PX) is dropped and the scale refitted, up to three times; then every peak is matched again, brightest
+ * first, within POLISH_TOLERANCE_PX of the clipped scale, and that assignment kept when it holds at least as many
+ * lines and bends as a grating does. `assigned` is updated in place.
+ */
+function polish(
+  assigned: Map<number, number>,
+  peaks: readonly Peak[],
+  featureNm: Float64Array,
+  weights: Float64Array,
+  model: PolynomialModel,
+  extentPx: number,
+  o: { minToleranceNm: number },
+): PolynomialModel {
+  const residualPx = (i: number, k: number, m: PolynomialModel) =>
+    Math.abs(featureNm[k] - polynomialWavelengthNm(m, peaks[i].positionPx)) / (Math.abs(polynomialDispersionNmPerPx(m, peaks[i].positionPx)) || 1);
+  for (let round = 0; round < 3 && assigned.size > 4; round++) {
+    let worst = -1;
+    let worstR = 0;
+    const rs: number[] = [];
+    for (const [i, k] of assigned) {
+      const r = residualPx(i, k, model);
+      rs.push(r);
+      if (r > worstR) {
+        worstR = r;
+        worst = i;
+      }
+    }
+    rs.sort((a, b) => a - b);
+    if (worstR <= Math.max(3 * 1.4826 * rs[rs.length >> 1], POLISH_FLOOR_PX)) break;
+    const k = assigned.get(worst)!;
+    assigned.delete(worst);
+    const next = refit(assigned, peaks, featureNm, extentPx);
+    if (!next) {
+      assigned.set(worst, k);
+      break;
+    }
+    model = next;
+  }
+  const tight = new Map<number, number>();
+  const taken = new Set<number>();
+  for (let i = 0; i < peaks.length; i++) {
+    const x = peaks[i].positionPx;
+    const slope = Math.abs(polynomialDispersionNmPerPx(model, x)) || 1;
+    const k = likeliestWithin(featureNm, weights, polynomialWavelengthNm(model, x), Math.max(POLISH_TOLERANCE_PX * slope, 0.5 * o.minToleranceNm));
+    if (k < 0 || taken.has(k)) continue;
+    const widthNm = 1.2 * peaks[i].fwhmPx * slope;
+    if ((k > 0 && featureNm[k] - featureNm[k - 1] < widthNm) || (k + 1 < featureNm.length && featureNm[k + 1] - featureNm[k] < widthNm)) continue;
+    tight.set(i, k);
+    taken.add(k);
+  }
+  if (tight.size < assigned.size) return model;
+  const next = refit(tight, peaks, featureNm, extentPx);
+  if (!next || (next.degree === 2 && !gratingLikeCurvature(next, [...tight].map(([pi, fk]) => ({ positionPx: peaks[pi].positionPx, wavelengthNm: featureNm[fk] }))))) return model;
+  assigned.clear();
+  for (const [i, k] of tight) assigned.set(i, k);
+  return next;
 }
 
 /** Linear until four lines span 40 % of the peaks' extent: a curvature from clustered lines extrapolates wildly. */
@@ -420,6 +560,99 @@ function sameModel(p: PolynomialModel, q: PolynomialModel, xs: Float64Array): bo
   return [lo, (lo + hi) / 2, hi].every((x) => Math.abs(polynomialWavelengthNm(p, x) - polynomialWavelengthNm(q, x)) <= tol);
 }
 
+/**
+ * A strong feature is one of the species' neutral spectrum (in the glow of a discharge tube it dominates, as
+ * speciesTemplates.ts assumes; the ion's share varies from tube to tube) tabulated at least this share of that
+ * spectrum's strongest where every camera sees: with lamp and camera scatter of a factor of 3 each way it still comes
+ * out among the clearly visible peaks (common practice, no source).
+ */
+const STRONG_SHARE = 0.25;
+/**
+ * A strong feature that a scale puts inside the spectrum with no peak near it costs this much (nats): ln of the chance
+ * that a random scale puts no peak there (about 0.9) over the chance that a real lamp lacks a strong line (a table
+ * error, a filter, a blend the peak finder split: about 0.2; common practice, no source).
+ */
+const MISSING_NATS = 1.5;
+/** Strong features nearer than this share of the covered span to its ends are not required (the camera's edges fade). */
+const MISSING_EDGE_SHARE = 0.05;
+
+/** Wavelengths of the strong features (see STRONG_SHARE) inside `window`, ascending. */
+function strongFeatureNm(features: ReadonlyArray<{ wavelengthNm: number; relative: number; spectrum: string }>, window: readonly [number, number]): Float64Array {
+  const all = features.filter((f) => f.wavelengthNm >= window[0] && f.wavelengthNm <= window[1]);
+  const neutral = all.filter((f) => / I$/.test(f.spectrum));
+  const inside = neutral.length > 0 ? neutral : all;
+  if (inside.length === 0) return new Float64Array(0);
+  const top = inside.reduce((a, b) => (b.relative > a.relative ? b : a));
+  return Float64Array.from(
+    inside.filter((f) => f.spectrum === top.spectrum && f.relative >= STRONG_SHARE * top.relative),
+    (f) => f.wavelengthNm,
+  );
+}
+
+/**
+ * How many strong features lie inside the span of `mappedNm` (ascending peak wavelengths on a scale, trimmed by
+ * MISSING_EDGE_SHARE) with no peak within that peak's tolerance `tolNm`, times MISSING_NATS.
+ */
+function missingFrom(strongNm: Float64Array, mappedNm: Float64Array, tolNm: Float64Array): number {
+  const n = mappedNm.length;
+  if (n === 0 || strongNm.length === 0) return 0;
+  const margin = MISSING_EDGE_SHARE * (mappedNm[n - 1] - mappedNm[0]);
+  let missing = 0;
+  for (let k = 0; k < strongNm.length; k++) {
+    const w = strongNm[k];
+    if (w < mappedNm[0] + margin || w > mappedNm[n - 1] - margin) continue;
+    const i = lowerBound(mappedNm, w);
+    const near = (i < n && mappedNm[i] - w <= tolNm[i]) || (i > 0 && w - mappedNm[i - 1] <= tolNm[i - 1]);
+    if (!near) missing++;
+  }
+  return missing * MISSING_NATS;
+}
+
+/**
+ * The missing-feature cost of a seed hypothesis λ = a + b x + c x²: every peak mapped (ascending in wavelength), each
+ * with the hypothesis' matching tolerance at its position (the base tolerance widened for curvature, as in scoring).
+ */
+function missingNats(
+  strongNm: Float64Array,
+  allX: Float64Array,
+  mapped: Float64Array,
+  tols: Float64Array,
+  q: Quadratic,
+  base: number,
+  close: boolean,
+  trio: readonly number[],
+  mid: number,
+): number {
+  const n = allX.length;
+  const descending = q.a + q.b * allX[n - 1] + q.c * allX[n - 1] * allX[n - 1] < q.a + q.b * allX[0] + q.c * allX[0] * allX[0];
+  for (let i = 0; i < n; i++) {
+    const x = allX[descending ? n - 1 - i : i];
+    const beyond = x < trio[0] ? trio[0] - x : x > trio[2] ? x - trio[2] : 0;
+    mapped[i] = q.a + q.b * x + q.c * x * x;
+    tols[i] = base + (close ? curvatureNm(x, trio[0], trio[2], mid) : 0.5 * DRIFT_PER_PX * beyond * beyond * mid);
+  }
+  return missingFrom(strongNm, mapped, tols);
+}
+
+/** The missing-feature cost of a grown scale (tolerance as in modelScore). */
+function missingNatsOfModel(
+  strongNm: Float64Array,
+  allX: Float64Array,
+  mapped: Float64Array,
+  tols: Float64Array,
+  model: PolynomialModel,
+  o: { tolerancePx: number; minToleranceNm: number },
+): number {
+  const n = allX.length;
+  const descending = polynomialWavelengthNm(model, allX[n - 1]) < polynomialWavelengthNm(model, allX[0]);
+  for (let i = 0; i < n; i++) {
+    const x = allX[descending ? n - 1 - i : i];
+    mapped[i] = polynomialWavelengthNm(model, x);
+    tols[i] = Math.max(o.tolerancePx * Math.abs(polynomialDispersionNmPerPx(model, x)), o.minToleranceNm);
+  }
+  return missingFrom(strongNm, mapped, tols);
+}
+
 /** Half-width of the window over which the species' feature density is counted (nm). */
 const DENSITY_HALF_WIDTH_NM = 10;
 
@@ -440,6 +673,25 @@ function lowerBound(sorted: Float64Array, v: number): number {
     else hi = mid;
   }
   return lo;
+}
+
+/**
+ * Of the features within `tol` of `v`, the one a peak there most likely is: prior weight (template weights) times a
+ * Gaussian in the distance with σ = tol / 2 (the tolerance is a 2σ bound). Far from the fitted lines the tolerance
+ * takes in several features, and the nearest may be a faint ion line beside a strong neutral one.
+ */
+function likeliestWithin(sorted: Float64Array, weights: Float64Array, v: number, tol: number): number {
+  let best = -1;
+  let bestL = -Infinity;
+  for (let k = lowerBound(sorted, v - tol); k < sorted.length && sorted[k] <= v + tol; k++) {
+    const z = (2 * (sorted[k] - v)) / tol;
+    const l = Math.log(weights[k]) - 0.5 * z * z;
+    if (l > bestL) {
+      bestL = l;
+      best = k;
+    }
+  }
+  return best;
 }
 
 function nearestWithin(sorted: Float64Array, v: number, tol: number): number {

@@ -45,7 +45,8 @@ export const SMALL_SET = 8;
  * degree by AICc up to 2, or 3 from 12 lines: a camera spectroscope's scale is nearly linear with a gentle
  * curvature). With fewer, AICc is undefined for a quadratic and its outlier clipping can drop good lines of a real
  * curvature, so the fit is a weighted least-squares quadratic (from 5 lines; linear below), weights from the centroid
- * uncertainties on the linear scale's dispersion, with the next degree up or down as the extrapolation check.
+ * uncertainties on the linear scale's dispersion and the reference wavelengths' own (a blend's centroid), with the next
+ * degree up or down as the extrapolation check.
  */
 export function fitScale(points: readonly CalibrationPoint[]): ScaleFit | null {
   if (points.length >= SMALL_SET) {
@@ -63,7 +64,7 @@ export function fitScale(points: readonly CalibrationPoint[]): ScaleFit | null {
   const slope = Math.abs(linear.model.coefficientsNm[1] / linear.model.scalePx);
   const weighted = points.map((p) => {
     const sigmaPx = Math.max(Number.isFinite(p.positionUncertaintyPx) ? p.positionUncertaintyPx : 0.5, p.saturated ? 0.3 : 0.1);
-    return { xPx: p.positionPx, wavelengthNm: p.wavelengthNm, weight: 1 / (sigmaPx * slope) ** 2 };
+    return { xPx: p.positionPx, wavelengthNm: p.wavelengthNm, weight: 1 / ((sigmaPx * slope) ** 2 + (p.referenceUncertaintyNm ?? 0) ** 2) };
   });
   let degree = points.length >= 5 ? 2 : 1;
   let main = fitPolynomial(weighted, degree);
