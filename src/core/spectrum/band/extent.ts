@@ -46,7 +46,7 @@ export function measureHeight(image: LinearImage, band: BandGeometry, ambient?: 
 function crossProfileOnce(image: LinearImage, band: BandGeometry, halfWidthPx: number, ambient: Ambient | undefined): HeightMeasure {
   const rowStepPx = Math.max(1, (2 * halfWidthPx) / 250);
   const stepPx = Math.max(1, band.lengthPx / 600);
-  const s = sampleBand(image, band, { halfWidthPx, rowStepPx, stepPx, combine: true });
+  const s = sampleBand(image, band, { halfWidthPx, rowStepPx, stepPx, combine: true, flagSaturated: false });
   if (ambient) subtractAmbient(s, band, ambient);
   const R = s.rows;
   const N = s.columns;

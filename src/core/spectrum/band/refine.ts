@@ -101,7 +101,7 @@ function bandSamples(image: LinearImage, band: BandGeometry, ambient: Ambient | 
   // Rows every H/60 px: the centroid and the slab sums need the band's shape across, not every pixel row.
   const rowStepPx = Math.max(1, H / 60);
   const stepPx = Math.max(1, band.lengthPx / 3000);
-  const s = sampleBand(image, band, { halfWidthPx: objHalf + gap + bgWidth, rowStepPx, stepPx, combine: true, out: reuse });
+  const s = sampleBand(image, band, { halfWidthPx: objHalf + gap + bgWidth, rowStepPx, stepPx, combine: true, flagSaturated: false, out: reuse });
   if (ambient) subtractAmbient(s, band, ambient);
   const R = s.rows;
   const N = s.columns;
