@@ -7,13 +7,14 @@ import path from 'node:path';
 import { applyProfileToPeaks, type InstrumentProfile, positionsInProfileFrame } from '../core/calibration/profile.js';
 import { wavelengthAtNm } from '../core/calibration/model.js';
 import { InputError } from '../core/errors.js';
-import { findBand } from '../core/spectrum/findBand.js';
+import { decimatePreview } from '../core/spectrum/band/decimate.js';
+import { type CoarseSearch, FIND_BAND_DEFAULTS, findBand, previewSuitsSearch, searchBandCoarse } from '../core/spectrum/findBand.js';
 import { type ExtractSpectrumOptions, extractSpectrum } from '../core/spectrum/extract.js';
 import { findPeaksDetailed, peaksToWavelength } from '../core/spectrum/peaks/index.js';
 import { plotSpectrumSvg } from '../core/spectrum/plotSpectrum.js';
 import type { BandGeometry, Peak, Spectrum } from '../core/types.js';
 import { airToVacuumNm } from '../core/units/airVacuum.js';
-import { decodeImage, type ExifSummary } from '../io/image.js';
+import { decodeImageStaged, type ExifSummary, type StagedDecode } from '../io/image.js';
 import { readSpectrumCsv } from '../io/readSpectrumCsv.js';
 import { sniffKind } from '../io/sniff.js';
 import { createSvgDocument } from '../io/svgDocument.js';
@@ -78,7 +79,7 @@ export interface AnalyseSpectrumOptions {
   /** With a calibration: report vacuum wavelengths (Ciddor 1996, standard air). @default false */
   vacuum?: boolean;
   /** Called after each stage with its wall time (the benchmark's breakdown). */
-  onStage?: (stage: 'decode' | 'band' | 'extract' | 'peaks', ms: number) => void;
+  onStage?: (stage: 'decode' | 'coarse' | 'band' | 'extract' | 'peaks', ms: number) => void;
 }
 
 /** The spectrum with its analysis, for the CSV and SVG outputs. */
@@ -108,13 +109,18 @@ async function measureSpectrum(file: string, options: AnalyseSpectrumOptions): P
     return analyseCsv(file);
   }
   const clock = stageClock(options.onStage);
-  const decoded = await decodeImage(file, {
+  const staged = await decodeImageStaged(file, {
     source: file,
     dark: options.dark,
     maxPixels: options.maxPixels,
     srgb8: options.transfer === undefined ? undefined : options.transfer === 'srgb',
     linear16: options.transfer === undefined ? undefined : options.transfer === 'linear',
+    // A manual band needs no search; else a preview where the coarse search can use one.
+    wantPreview: options.band ? undefined : (w, h, scale) => previewSuitsSearch(w, h, scale),
   });
+  // A large JPEG's coarse band search runs on its 1/8-scale preview while the full decode goes on.
+  const coarse = options.band ? null : await coarseFromPreview(staged, file, options.onStage);
+  const decoded = await staged.decoded; // a decode error wins over the coarse search's
   clock('decode');
   const warnings = [...decoded.warnings];
   let band: BandGeometry;
@@ -126,7 +132,10 @@ async function measureSpectrum(file: string, options: AnalyseSpectrumOptions): P
     bandSource = 'manual';
     warnings.push(...checkBandInside(band, decoded.widthPx, decoded.heightPx));
   } else {
-    const found = namingFile(file, () => findBand(decoded.image, { source: file }));
+    const found = namingFile(file, () => {
+      if (coarse && 'error' in coarse) throw coarse.error;
+      return findBand(decoded.image, { source: file, coarse: coarse?.search });
+    });
     band = found.band;
     bandSource = 'found';
     extraction = found.extraction;
@@ -231,6 +240,31 @@ function stageClock(onStage: AnalyseSpectrumOptions['onStage']): (stage: 'decode
     onStage?.(stage, now - t);
     t = now;
   };
+}
+
+/**
+ * The coarse band search on the preview, when the decoder made one (null otherwise); its error ("no spectrum found")
+ * is kept and thrown only after the full decode, whose own error comes first. Reports its wall time as the stage
+ * 'coarse', which overlaps 'decode'.
+ */
+async function coarseFromPreview(
+  staged: StagedDecode,
+  file: string,
+  onStage: AnalyseSpectrumOptions['onStage'],
+): Promise<{ search: CoarseSearch } | { error: unknown } | null> {
+  const preview = await staged.preview;
+  if (!preview) return null;
+  const t0 = performance.now();
+  try {
+    const { width, height } = { width: preview.image.width * preview.scale, height: preview.image.height * preview.scale };
+    const d = FIND_BAND_DEFAULTS;
+    const dec = decimatePreview(preview.image, preview.scale, width, height, d.coarseMaxSidePx, d.saturationLevel);
+    return { search: searchBandCoarse(dec, width, height, { source: file }) };
+  } catch (error) {
+    return { error };
+  } finally {
+    onStage?.('coarse', performance.now() - t0);
+  }
 }
 
 /** Core stages do not know the file: their bad-input messages get its name in front. */

@@ -3,8 +3,8 @@ import { tmpdir } from 'node:os';
 import path from 'node:path';
 import sharp from 'sharp';
 import { afterAll, describe, expect, it } from 'vitest';
-import { srgbDecode } from '../../src/core/units/srgb.js';
-import { decodeImage, linearImageFromCodes } from '../../src/io/image.js';
+import { srgbDecode, srgbEncode } from '../../src/core/units/srgb.js';
+import { decodeImage, decodeImageStaged, linearImageFromCodes } from '../../src/io/image.js';
 
 // Fixtures are generated here with sharp into a temporary folder; nothing binary is committed.
 const dir = mkdtempSync(path.join(tmpdir(), 'glowprint-image-'));
@@ -302,3 +302,116 @@ describe('decodeImage — bad input gets one clear message naming the file', () 
 function escape(s: string): string {
   return s.replace(/[.*+?^${}()|[\]\\]/g, '\\$&');
 }
+
+describe('decodeImageStaged(input, options) — the full decode with a 1/8-scale preview alongside', () => {
+  const always = (): boolean => true;
+  /** A smooth RGB pattern (JPEG-friendly) with one 8 × 8 block (5, 3) at 255 in every channel and a 24 × 24 one at (10..12, 8..10). */
+  function smooth(w: number, h: number): Uint8Array {
+    const px = new Uint8Array(w * h * 3);
+    for (let y = 0; y < h; y++) {
+      for (let x = 0; x < w; x++) {
+        const i = (y * w + x) * 3;
+        px[i] = Math.round((200 * x) / w);
+        px[i + 1] = Math.round(30 + (180 * y) / h);
+        px[i + 2] = Math.round(120 + 60 * Math.sin(x / 40) * Math.cos(y / 30));
+      }
+    }
+    const white = (x0: number, y0: number, size: number): void => {
+      for (let y = y0; y < Math.min(h, y0 + size); y++) px.fill(255, (y * w + x0) * 3, (y * w + Math.min(w, x0 + size)) * 3);
+    };
+    white(40, 24, 8);
+    white(80, 64, 24);
+    return px;
+  }
+
+  /**
+   * What libvips makes of a 1/8 resize with shrink-on-load (measured, sharp 0.34): the decoder's 1/4 DCT scaling (means
+   * of 4 × 4 px) and a 2× linear reduce, weights 1:3:3:1 over the four 4-px cells across each 8-px block and its
+   * neighbours (edges replicated). Computed here from the full decode's codes of channel c.
+   */
+  function previewModel(codes: Uint8Array, w: number, h: number, c: number): Float64Array {
+    const cell = (X: number, Y: number): number => {
+      const x0 = 4 * Math.min(w / 4 - 1, Math.max(0, X));
+      const y0 = 4 * Math.min(h / 4 - 1, Math.max(0, Y));
+      let sum = 0;
+      for (let y = 0; y < 4; y++) for (let x = 0; x < 4; x++) sum += codes[((y0 + y) * w + x0 + x) * 3 + c];
+      return sum / 16;
+    };
+    const tap = [1 / 8, 3 / 8, 3 / 8, 1 / 8];
+    const out = new Float64Array((w / 8) * (h / 8));
+    for (let Y = 0; Y < h / 8; Y++) {
+      for (let X = 0; X < w / 8; X++) {
+        let v = 0;
+        for (let a = 0; a < 4; a++) for (let b = 0; b < 4; b++) v += tap[a] * tap[b] * cell(2 * X - 1 + b, 2 * Y - 1 + a);
+        out[Y * (w / 8) + X] = v;
+      }
+    }
+    return out;
+  }
+
+  /** Largest |preview − model| over channel c, in codes (the preview's linear values sRGB-encoded back). */
+  function worstCodeError(preview: { width: number; height: number; data: Float32Array }, full: Uint8Array, w: number, h: number, c: number): number {
+    const model = previewModel(full, w, h, c);
+    let worst = 0;
+    for (let k = 0; k < model.length; k++) worst = Math.max(worst, Math.abs(255 * srgbEncode(preview.data[k * 3 + c]) - model[k]));
+    return worst;
+  }
+
+  it('an 8-bit JPEG with sides in multiples of 8: each preview pixel is a mean centred on its 8 × 8 block, in linear light, clipped where the whole mean is', async () => {
+    const w = 320;
+    const h = 240;
+    // Full-resolution chroma (4:4:4), so that every channel follows the model; with 4:2:0 the colour is coarser.
+    const jpg = await sharp(smooth(w, h), { raw: { width: w, height: h, channels: 3 } }).jpeg({ quality: 95, chromaSubsampling: '4:4:4' }).toBuffer();
+    const staged = await decodeImageStaged(jpg, { wantPreview: always });
+    const preview = (await staged.preview)!;
+    const full = await staged.decoded;
+    expect(preview.scale).toBe(8);
+    expect([preview.image.width, preview.image.height, preview.image.channels]).toEqual([w / 8, h / 8, 3]);
+    // The full decode is decodeImage's, code for code.
+    expect(Buffer.from(full.image.codes!).equals(Buffer.from((await decodeImage(jpg)).image.codes!))).toBe(true);
+    // Within 2 codes of the model (the decoders' rounding).
+    for (let c = 0; c < 3; c++) expect(worstCodeError(preview.image, full.image.codes as Uint8Array, w, h, c)).toBeLessThanOrEqual(2);
+    // Clipped: the centre of the 24-px white square (its mean covers white only); not the lone 8-px block, whose
+    // mean takes in its neighbours.
+    const pw = w / 8;
+    expect(preview.image.saturated![9 * pw + 11]).toBe(1);
+    expect(preview.image.saturated![3 * pw + 5]).toBe(0);
+    expect(preview.image.data[3 * pw + 5]).toBeGreaterThan(0.2); // about 56 % white, 44 % dark background
+    expect(preview.image.data[3 * pw + 5]).toBeLessThan(0.9);
+  });
+
+  it('gives no preview (null) unless wanted, for PNG, for sides that are not multiples of 8, and with a dark frame', async () => {
+    const px = smooth(320, 240);
+    const jpg = await sharp(px, { raw: { width: 320, height: 240, channels: 3 } }).jpeg().toBuffer();
+    expect(await (await decodeImageStaged(jpg)).preview).toBeNull();
+    const png = await sharp(px, { raw: { width: 320, height: 240, channels: 3 } }).png().toBuffer();
+    expect(await (await decodeImageStaged(png, { wantPreview: always })).preview).toBeNull();
+    const odd = await sharp(px, { raw: { width: 320, height: 240, channels: 3 } }).extract({ left: 0, top: 0, width: 316, height: 240 }).jpeg().toBuffer();
+    expect(await (await decodeImageStaged(odd, { wantPreview: always })).preview).toBeNull();
+    const withDark = await decodeImageStaged(jpg, { wantPreview: always, dark: jpg });
+    expect(await withDark.preview).toBeNull();
+    expect((await withDark.decoded).widthPx).toBe(320);
+  });
+
+  it('the preview is upright under every EXIF orientation (1–8), block for block like the full decode', async () => {
+    const w = 128;
+    const h = 96;
+    const px = smooth(w, h);
+    for (let orientation = 1; orientation <= 8; orientation++) {
+      const jpg = await sharp(px, { raw: { width: w, height: h, channels: 3 } }).jpeg({ quality: 100, chromaSubsampling: '4:4:4' }).withMetadata({ orientation }).toBuffer();
+      const staged = await decodeImageStaged(jpg, { wantPreview: always });
+      const p = (await staged.preview)!;
+      const full = (await staged.decoded).image;
+      expect([p.image.width, p.image.height]).toEqual([full.width / 8, full.height / 8]);
+      expect(worstCodeError(p.image, full.codes as Uint8Array, full.width, full.height, 0), `orientation ${orientation}`).toBeLessThanOrEqual(2);
+    }
+  });
+
+  it('a truncated JPEG: the full decode rejects with the damage message; the preview resolves to null', async () => {
+    const jpg = await sharp(smooth(320, 240), { raw: { width: 320, height: 240, channels: 3 } }).jpeg().toBuffer();
+    const f = file('cut-staged.jpg', jpg.subarray(0, Math.floor(jpg.length / 2)));
+    const staged = await decodeImageStaged(f, { wantPreview: always });
+    expect(await staged.preview).toBeNull();
+    await expect(staged.decoded).rejects.toThrow(`${f}: the JPEG data is damaged or cut short`);
+  });
+});

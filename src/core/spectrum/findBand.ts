@@ -15,11 +15,11 @@
  * vertical band). Which end is blue is not known here; calibration decides and may reverse the band (reverseBand).
  * Callers with a band of their own skip this and pass their BandGeometry to extractSpectrum.
  */
-import { assertFinite } from '../errors.js';
+import { assertFinite, invalid } from '../errors.js';
 import type { BandGeometry, LinearImage, PointPx } from '../types.js';
 import { type Ambient, ambientFromSurfaces } from './band/ambient.js';
-import { coarseBand } from './band/coarse.js';
-import { decimate } from './band/decimate.js';
+import { type CoarseBand, coarseBand } from './band/coarse.js';
+import { type Decimated, decimate } from './band/decimate.js';
 import { insideRange, measureHeight } from './band/extent.js';
 import { flattenBackground } from './band/flatten.js';
 import { foldAxisAngleDeg, imageToBandPx, reverseBand } from './band/frame.js';
@@ -90,55 +90,113 @@ export interface FoundBand {
   diagnostics: FindBandDiagnostics;
 }
 
-/** Locates the dispersed band; throws InputError "no spectrum found in <source>" when nothing stands out. */
-export function findBand(image: LinearImage, options: FindBandOptions = {}): FoundBand {
+/**
+ * The coarse stage of findBand on its own: from a decimated photo (decimate(), or decimatePreview() of a decoder's
+ * reduced-size decode) to the first band estimate in full-resolution pixels. It needs no full-resolution pixel, so a
+ * caller may run it while the full photo is still being decoded and pass the result to findBand as `coarse`.
+ */
+export interface CoarseSearch {
+  /** Size of the full-resolution photo the estimate refers to. */
+  widthPx: number;
+  heightPx: number;
+  /** Block size of the coarse image (full-resolution px per coarse px). */
+  factor: number;
+  coarse: CoarseBand;
+  ambient: Ambient;
+  /** The coarse band refined on the coarse image (full-resolution px). */
+  band: BandGeometry;
+  /** The slant was measured on the coarse image. */
+  slantSeen: boolean;
+}
+
+/**
+ * Whether a preview holding the means of `scale` × `scale` blocks suits the coarse search of a `widthPx` × `heightPx`
+ * photo: its coarse image (decimatePreview) must have blocks no more than 4/3 the size findBand would choose, because
+ * the coarse search's components change with the scale. Measured: on the 1920 × 1080 demo photos, blocks of 8 px
+ * instead of 3 lengthened three bands by ~690 px (light off the band joined them); on rendered 3264–4032 px photos,
+ * blocks of 8 instead of 6–7 px gave the same geometry within its uncertainty.
+ */
+export function previewSuitsSearch(widthPx: number, heightPx: number, scale: number, coarseMaxSidePx: number = FIND_BAND_DEFAULTS.coarseMaxSidePx): boolean {
+  const longSide = Math.max(widthPx, heightPx);
+  const own = Math.max(1, Math.ceil(longSide / coarseMaxSidePx));
+  const fromPreview = scale * Math.max(1, Math.ceil(Math.ceil(longSide / scale) / coarseMaxSidePx));
+  return fromPreview >= own && fromPreview <= (4 / 3) * own;
+}
+
+/** The options of findBand that the coarse stage reads. */
+export type CoarseSearchOptions = Pick<FindBandOptions, 'source' | 'detectionSigma' | 'minSignal' | 'measureSlant'>;
+
+/** Runs the coarse stage on `dec`, a decimated copy of a `widthPx` × `heightPx` photo; see CoarseSearch. */
+export function searchBandCoarse(dec: Decimated, widthPx: number, heightPx: number, options: CoarseSearchOptions = {}): CoarseSearch {
   const d = FIND_BAND_DEFAULTS;
   const source = options.source ?? d.source;
   const detectionSigma = options.detectionSigma ?? d.detectionSigma;
   const minSignal = options.minSignal ?? d.minSignal;
+  const measureSlant = options.measureSlant ?? d.measureSlant;
+  assertFinite('detectionSigma', detectionSigma, 1);
+  assertFinite('minSignal', minSignal, 0);
+  const f = dec.factor;
+  if (dec.width !== Math.ceil(widthPx / f) || dec.height !== Math.ceil(heightPx / f)) {
+    throw invalid('coarse image', `${Math.ceil(widthPx / f)} × ${Math.ceil(heightPx / f)} blocks of ${f} px`, `${dec.width} × ${dec.height}`);
+  }
+  const flat = flattenBackground(dec.planes, dec.width, dec.height);
+  const coarse = coarseBand(dec, flat.residual, { detectionSigma, minSignal, source });
+  const ambient = ambientFromSurfaces(flat.surfaces, dec.width, dec.height, f);
+  let band = coarse.band;
+  let slantSeen = false;
+  if (f > 1) {
+    // Refinement on the decimated luminance, in decimated px.
+    const toDec = (b: BandGeometry): BandGeometry => ({
+      ...b,
+      center: { x: (b.center.x - (f - 1) / 2) / f, y: (b.center.y - (f - 1) / 2) / f },
+      lengthPx: b.lengthPx / f,
+      heightPx: b.heightPx / f,
+    });
+    const toFull = (b: BandGeometry): BandGeometry => ({
+      ...b,
+      center: { x: f * b.center.x + (f - 1) / 2, y: f * b.center.y + (f - 1) / 2 },
+      lengthPx: b.lengthPx * f,
+      heightPx: b.heightPx * f,
+    });
+    const small: LinearImage = { width: dec.width, height: dec.height, channels: 1, data: coarse.luminance };
+    const coarseRefined = refineBand(small, toDec(band), { iterations: 4, slant: measureSlant });
+    slantSeen = coarseRefined.report.slantMeasured;
+    band = toFull(withHeight(small, coarseRefined.band));
+  }
+  return { widthPx, heightPx, factor: f, coarse, ambient, band, slantSeen };
+}
+
+/**
+ * Locates the dispersed band; throws InputError "no spectrum found in <source>" when nothing stands out. With
+ * `coarse` (searchBandCoarse on a preview of this photo) the coarse stage is taken from it and `coarseMaxSidePx` is
+ * not used.
+ */
+export function findBand(image: LinearImage, options: FindBandOptions & { coarse?: CoarseSearch } = {}): FoundBand {
+  const d = FIND_BAND_DEFAULTS;
+  const source = options.source ?? d.source;
   const coarseMaxSidePx = options.coarseMaxSidePx ?? d.coarseMaxSidePx;
   const refineIterations = options.refineIterations ?? d.refineIterations;
   const measureSlant = options.measureSlant ?? d.measureSlant;
   const saturationLevel = options.saturationLevel ?? d.saturationLevel;
-  assertFinite('detectionSigma', detectionSigma, 1);
-  assertFinite('minSignal', minSignal, 0);
   assertFinite('coarseMaxSidePx', coarseMaxSidePx, 32);
   assertFinite('refineIterations', refineIterations, 1, 50);
   assertFinite('saturationLevel', saturationLevel, 0);
   const warnings: string[] = [];
 
-  // 1–2. Coarse search.
-  const factor = Math.max(1, Math.ceil(Math.max(image.width, image.height) / coarseMaxSidePx));
-  const dec = decimate(image, factor, saturationLevel);
-  const flat = flattenBackground(dec.planes, dec.width, dec.height);
-  const coarse = coarseBand(dec, flat.residual, { detectionSigma, minSignal, source });
-
-  // 3. Refinement on the decimated luminance, then at full resolution.
-  const f = factor;
-  const toDec = (b: BandGeometry): BandGeometry => ({
-    ...b,
-    center: { x: (b.center.x - (f - 1) / 2) / f, y: (b.center.y - (f - 1) / 2) / f },
-    lengthPx: b.lengthPx / f,
-    heightPx: b.heightPx / f,
-  });
-  const toFull = (b: BandGeometry): BandGeometry => ({
-    ...b,
-    center: { x: f * b.center.x + (f - 1) / 2, y: f * b.center.y + (f - 1) / 2 },
-    lengthPx: b.lengthPx * f,
-    heightPx: b.heightPx * f,
-  });
-  const ambient = ambientFromSurfaces(flat.surfaces, dec.width, dec.height, f);
-  let band = coarse.band;
-  // The slant counts as measured when any stage measured it (the last may lack the rows for it in a short band).
-  let slantSeen = false;
-  if (f > 1) {
-    const small: LinearImage = { width: dec.width, height: dec.height, channels: 1, data: coarse.luminance };
-    const coarseRefined = refineBand(small, toDec(band), { iterations: 4, slant: measureSlant });
-    slantSeen ||= coarseRefined.report.slantMeasured;
-    let b = coarseRefined.band;
-    b = withHeight(small, b);
-    band = toFull(b);
+  // 1–3 (coarse). Block-average, flatten, threshold and label, refine on the decimated luminance.
+  let search = options.coarse;
+  if (search === undefined) {
+    const factor = Math.max(1, Math.ceil(Math.max(image.width, image.height) / coarseMaxSidePx));
+    search = searchBandCoarse(decimate(image, factor, saturationLevel), image.width, image.height, { ...options, source });
+  } else if (search.widthPx !== image.width || search.heightPx !== image.height) {
+    throw invalid('coarse', `a coarse search of this ${image.width} × ${image.height} photo`, `one of ${search.widthPx} × ${search.heightPx}`);
   }
+  const { coarse, ambient, factor: f } = search;
+  let band = search.band;
+  // The slant counts as measured when any stage measured it (the last may lack the rows for it in a short band).
+  let slantSeen = search.slantSeen;
+
+  // 3 (fine). Refinement at full resolution.
   band = withMemberExtent(band, coarse.memberEnds, image.width, image.height);
   let refined = refineBand(image, band, { iterations: refineIterations, slant: measureSlant, ambient });
   slantSeen ||= refined.report.slantMeasured;

@@ -6,6 +6,7 @@
  * a line image of FWHM ≥ 2 px still leaves a third of its peak or more in the samples nearest it. One pass, reading
  * codes through the table when the decoder kept them (the photo is never expanded to Float32 for this).
  */
+import { invalid } from '../../errors.js';
 import type { LinearImage } from '../../types.js';
 import { type PixelAccess, pixelAccess } from './pixels.js';
 
@@ -246,5 +247,68 @@ function rowGeneral(
       if (flags !== null && flags[p]) sat = true;
       if (sat) clipped[k] += 1;
     }
+  }
+}
+
+/**
+ * The coarse image from a decoder's reduced-size decode of the photo instead of the photo itself: pixel (X, Y) of
+ * `preview` is a mean of a `widthPx` × `heightPx` photo centred on its `scale` × `scale` block (io's JPEG preview:
+ * a weighted mean over the block and half its neighbours), linear values with per-pixel clip flags. It is
+ * block-averaged further when it is still longer than `coarseMaxSidePx`, so the coarse image has blocks of scale × g px.
+ *
+ * What differs from decimate() on the full photo: a JPEG preview's means are taken of gamma-encoded values (a bright
+ * narrow line counts for less than in a mean of linear light), over a slightly wider footprint, with the encoder's
+ * chroma resolution; a pixel is flagged clipped only when its whole mean is. The coarse search needs the band's shape
+ * and where it lies (previewSuitsSearch says at which sizes it is the same search); the refinement that follows reads
+ * the full-resolution photo.
+ */
+export function decimatePreview(
+  preview: LinearImage,
+  scale: number,
+  widthPx: number,
+  heightPx: number,
+  coarseMaxSidePx: number,
+  saturationLevel: number,
+): Decimated {
+  if (!Number.isInteger(scale) || scale < 1 || preview.width !== Math.ceil(widthPx / scale) || preview.height !== Math.ceil(heightPx / scale)) {
+    throw invalid('preview', `${Math.ceil(widthPx / scale)} × ${Math.ceil(heightPx / scale)} px (1/${scale} of the photo)`, `${preview.width} × ${preview.height}`);
+  }
+  const g = Math.max(1, Math.ceil(Math.max(preview.width, preview.height) / coarseMaxSidePx));
+  const dec = g === 1 ? planesOf(preview, saturationLevel) : decimate(preview, g, saturationLevel);
+  // Blocks of g preview pixels are blocks of g·scale photo pixels: ⌈⌈W/scale⌉/g⌉ = ⌈W/(g·scale)⌉, as decimate() counts them.
+  return { ...dec, factor: g * scale };
+}
+
+/** decimate(image, 1) by a plain copy into planes: each 1 × 1 block's mean is its pixel, its clipped fraction 0 or 1. */
+function planesOf(image: LinearImage, saturationLevel: number): Decimated {
+  const px = pixelAccess(image, saturationLevel);
+  if (px.codeToLinear !== null) return decimate(image, 1, saturationLevel); // codes: not what io's preview holds
+  const n = px.width * px.height;
+  const C = px.channels;
+  const planes = Array.from({ length: C }, () => new Float32Array(n));
+  const clipped = new Float32Array(n);
+  for (let c = 0; c < C; c++) copyChannel(px.values as Float32Array, C, c, planes[c], n);
+  clippedOf(px, clipped, n);
+  return { width: px.width, height: px.height, factor: 1, planes, clipped };
+}
+
+function copyChannel(values: Float32Array, C: number, c: number, plane: Float32Array, n: number): void {
+  for (let p = 0; p < n; p++) plane[p] = values[p * C + c];
+}
+
+/** 1 where the pixel is clipped: the decoder's flag, else any channel at or above the level (as rowLinear3/rowGreyLinear). */
+function clippedOf(px: PixelAccess, clipped: Float32Array, n: number): void {
+  const flags = px.saturatedFlags;
+  const values = px.values as Float32Array;
+  const C = px.channels;
+  const level = px.saturationLevel;
+  if (flags !== null) {
+    for (let p = 0; p < n; p++) clipped[p] = flags[p] !== 0 ? 1 : 0;
+    return;
+  }
+  for (let p = 0; p < n; p++) {
+    let any = 0;
+    for (let c = 0; c < C; c++) if (values[p * C + c] >= level) any = 1;
+    clipped[p] = any;
   }
 }
