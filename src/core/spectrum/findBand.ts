@@ -34,7 +34,10 @@ export interface FindBandOptions {
   minSignal?: number;
   /** Longest side of the block-averaged image of the coarse search (px). @default 640 */
   coarseMaxSidePx?: number;
-  /** Axis/slant refinement iterations at full resolution (it stops earlier once converged). @default 3 */
+  /**
+   * Axis/slant refinement iterations at full resolution before the height is measured (it stops earlier once
+   * converged); one more follows at the measured height. @default 2
+   */
   refineIterations?: number;
   /** Measure the slant of the line images (else 0°). @default true */
   measureSlant?: boolean;
@@ -47,7 +50,7 @@ export const FIND_BAND_DEFAULTS = {
   detectionSigma: 5,
   minSignal: 0.003,
   coarseMaxSidePx: 640,
-  refineIterations: 3,
+  refineIterations: 2,
   measureSlant: true,
   saturationLevel: 0.999,
 } as const satisfies Required<FindBandOptions>;
@@ -202,7 +205,7 @@ export function findBand(image: LinearImage, options: FindBandOptions & { coarse
   slantSeen ||= refined.report.slantMeasured;
   band = withHeight(image, refined.band, ambient);
   band = withMemberExtent(band, coarse.memberEnds, image.width, image.height);
-  refined = refineBand(image, band, { iterations: 2, slant: measureSlant, ambient });
+  refined = refineBand(image, band, { iterations: 1, slant: measureSlant, ambient });
   slantSeen ||= refined.report.slantMeasured;
   band = refined.band;
   const height = measureHeight(image, band, ambient);
