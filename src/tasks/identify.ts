@@ -8,6 +8,7 @@ import { wavelengthAtNm } from '../core/calibration/model.js';
 import { applyProfileToPeaks, positionsInProfileFrame, type InstrumentProfile } from '../core/calibration/profile.js';
 import { InputError } from '../core/errors.js';
 import type { CalibratedPeak } from '../core/identify/identifySpecies.js';
+import { dispersionPriorNmPerPx } from '../core/identify/dispersionPrior.js';
 import { identifySpectrum, type IdentifyInput, type SpectrumIdentification } from '../core/identify/identifySpectrum.js';
 import { plotIdentificationSvg } from '../core/identify/plotIdentification.js';
 import type { ListedLine } from '../core/lines/index.js';
@@ -68,7 +69,16 @@ export async function identifyFile(file: string, options: IdentifyFileOptions): 
     sampleWavelengthNm = spectrum.wavelengthNm;
     input = { from: 'file', peaks: analysis.peaks as CalibratedPeak[], coveredRangeNm: coveredRange(spectrum.wavelengthNm) };
   } else {
-    input = { from: 'self', peaks: analysis.peaks, positionRangePx: extent };
+    // The photo's focal length (EXIF 35-mm equivalent and size; without EXIF the usual equivalents) bounds the
+    // dispersion its grating can give: the self-calibration tries no scale outside it.
+    const photo = analysis.input.kind === 'photo' && analysis.input.widthPx && analysis.input.heightPx;
+    const dispersionNmPerPx = photo
+      ? dispersionPriorNmPerPx({
+          image: { widthPx: analysis.input.widthPx!, heightPx: analysis.input.heightPx! },
+          focalLength35mmMm: analysis.input.exif?.focalLength35mmMm,
+        })
+      : undefined;
+    input = { from: 'self', peaks: analysis.peaks, positionRangePx: extent, ...(dispersionNmPerPx ? { dispersionNmPerPx } : {}) };
   }
   const identification = identifySpectrum(input, { lines: options.lines, lasers });
   if (identification.scale) {

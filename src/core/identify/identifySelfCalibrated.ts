@@ -31,6 +31,11 @@ export interface SelfCalibrationOptions extends Omit<IdentifyOptions, 'rangeNm' 
   match?: Partial<MatchLinesOptions>;
   /** Joint evidence (nats) of "none of these scales". @default SELF_CALIBRATION_DEFAULTS.noneEvidence */
   noneEvidence?: number;
+  /**
+   * A candidate scale is judged with the whole list only when its lamp, judged with its own lines alone, comes within
+   * this many nats of `presentEvidence`. @default SELF_CALIBRATION_DEFAULTS.screenMarginNats
+   */
+  screenMarginNats?: number;
 }
 
 export const SELF_CALIBRATION_DEFAULTS = {
@@ -50,6 +55,8 @@ export const SELF_CALIBRATION_DEFAULTS = {
    * evaluation on sodium lamps, whose one doublet cannot set a scale).
    */
   noneEvidence: 2,
+  /** Room for the rank term other species can add to the lamp's evidence (ln of a few dozen peaks ≈ 3–4 nats). */
+  screenMarginNats: 4,
 } as const;
 
 /** The scale the spectrum gave itself. */
@@ -179,12 +186,24 @@ export function identifySelfCalibrated(peaks: readonly Peak[], options: SelfCali
   // A scale is physical only when its dispersion is plausible and it runs one way across the whole spectrum: a fit
   // through few lines can collapse (every peak at one wavelength) or turn over between them.
   const solutions = found.filter((s) => plausibleScale(s.fit, extent, options.match?.dispersionNmPerPx ?? PLAUSIBLE_DISPERSION_NM_PER_PX));
-  const evaluated: Evaluated[] = solutions.map((s) => {
+  const screenMargin = options.screenMarginNats ?? SELF_CALIBRATION_DEFAULTS.screenMarginNats;
+  const presentEvidence = options.presentEvidence ?? IDENTIFY_DEFAULTS.presentEvidence;
+  const ownLines = new Map<string, SpectralLine[]>();
+  const evaluated: Evaluated[] = solutions.flatMap((s) => {
     const penalty = (s.fit.model.kind === 'polynomial' ? s.fit.model.degree + 1 : 3) + Math.log(lamps.length);
     const evidencePenalty: Record<string, number> = {};
     const count = new Map<string, number>();
     for (const e of s.lines) count.set(e, (count.get(e) ?? 0) + 1);
-    for (const e of lampElements(s.lamp)) evidencePenalty[e] = (penalty * (count.get(e) ?? 0)) / Math.max(s.lines.length, 1);
+    const own = lampElements(s.lamp);
+    for (const e of own) evidencePenalty[e] = (penalty * (count.get(e) ?? 0)) / Math.max(s.lines.length, 1);
+    // Screen: a scale made from a lamp's lines stands only if that lamp is present on it (else its line assignments
+    // are a chance fit). Judged first with the lamp's own lines alone — a fraction of the cost of the whole list, and
+    // with no other species to take its peaks, about the most evidence the lamp can get — with a margin for what other
+    // species can add to it (the rank term, when they explain a brighter peak).
+    let mine = ownLines.get(s.lamp);
+    if (!mine) ownLines.set(s.lamp, (mine = options.lines.filter((l) => own.includes(l.element))));
+    const screen = identifyOnScale(usable, s.fit, extent, camera, { ...base, lines: mine }, evidencePenalty).identification;
+    if (!screen.species.some((x) => own.includes(x.element) && x.evidence >= presentEvidence - screenMargin)) return [];
     const first = identifyOnScale(usable, s.fit, extent, camera, base, evidencePenalty);
     let best = { fit: s.fit, refined: false, ...first };
     const refit = first.identification.species.some((x) => x.present) ? refineScale(usable, first.identification, s.fit) : null;
@@ -196,7 +215,7 @@ export function identifySelfCalibrated(peaks: readonly Peak[], options: SelfCali
     // fitting; which species the lamp is, is already paid for by each species' prior), less the search that found it.
     const given = best.identification.species.filter((x) => x.present).reduce((sum, x) => sum + (evidencePenalty[x.element] ?? 0), 0);
     const joint = best.identification.modelEvidence + given - s.searchNats;
-    return { s, ...best, penalty, joint, probability: 0 };
+    return [{ s, ...best, penalty, joint, probability: 0 }];
   });
   evaluated.sort((a, b) => b.joint - a.joint || a.s.log10FalseMatch - b.s.log10FalseMatch);
   // Posterior probabilities of the scales, "none of them" at joint evidence NONE_EVIDENCE (log-sum-exp).

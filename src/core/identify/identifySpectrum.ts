@@ -10,8 +10,11 @@ export type IdentifyInput =
   | { from: 'profile'; peaks: readonly CalibratedPeak[]; rmsNm: number; coveredRangeNm?: readonly [number, number]; lamp?: string }
   /** A spectrum file with a wavelength axis: calibrated by whoever wrote it, with no RMS known. */
   | { from: 'file'; peaks: readonly CalibratedPeak[]; coveredRangeNm?: readonly [number, number] }
-  /** Positions only: the spectrum calibrates itself (identifySelfCalibrated). */
-  | { from: 'self'; peaks: readonly Peak[]; positionRangePx?: readonly [number, number] };
+  /**
+   * Positions only: the spectrum calibrates itself (identifySelfCalibrated), its scales held to `dispersionNmPerPx`
+   * (|dλ/dx|, nm/px) when the photo says what it can be (dispersionPrior.ts).
+   */
+  | { from: 'self'; peaks: readonly Peak[]; positionRangePx?: readonly [number, number]; dispersionNmPerPx?: readonly [number, number] };
 
 export interface IdentifySpectrumOptions extends Omit<IdentifyOptions, 'rangeNm' | 'systematicNm' | 'evidencePenalty'> {
   /** Laser kinds (data/lasers.json) for a spectrum of one dominant line. @default none: no laser is reported */
@@ -55,7 +58,9 @@ export interface SpectrumIdentification extends Identification {
 export function identifySpectrum(input: IdentifyInput, options: IdentifySpectrumOptions): SpectrumIdentification {
   const { lasers, self, ...identify } = options;
   if (input.from === 'self') {
-    const r = identifySelfCalibrated(input.peaks, { ...identify, ...self, positionRangePx: input.positionRangePx });
+    const prior = input.dispersionNmPerPx;
+    const match = prior ? { ...self?.match, dispersionNmPerPx: [prior[0], prior[1]] as [number, number] } : self?.match;
+    const r = identifySelfCalibrated(input.peaks, { ...identify, ...self, match, positionRangePx: input.positionRangePx });
     const warnings = [...r.warnings];
     const total = input.peaks.reduce((s, p) => s + Math.max(p.area, 0), 0);
     const top = input.peaks.reduce((m, p) => Math.max(m, p.area), 0);
