@@ -223,6 +223,9 @@ export function brightLineScales(
     // The best few grown, ranked again on their grown scales (a good seed triple may have scored low on its own).
     const candidates: Array<{ points: CalibrationPoint[]; model: PolynomialModel; score: number }> = [];
     for (const h of found.slice(0, GROWN_PER_ELEMENT)) {
+      // Seeds that already sit on a grown scale grow into it again: skipped (most of the best hypotheses are one
+      // scale seeded by different triples).
+      if (candidates.some((c) => seedsOnModel(h, c.model, featureNm, o))) continue;
       const g = grow(h, byArea, t.features, featureNm, t.weights, o);
       if (!g || g.points.length < o.minMatches) continue;
       candidates.push({ ...g, score: modelScore(g.model, xs, featureNm, seenW, peakSpanPx, o, cameraRangeNm) - missingNatsOfModel(strongNm, allX, mapped, tols, g.model, o) });
@@ -461,6 +464,14 @@ function matchCredit(featureNm: Float64Array, weights: Float64Array, at: number,
   let w = 0;
   for (let k = lowerBound(featureNm, at - tol); k < featureNm.length && featureNm[k] <= at + tol; k++) w += weights[k];
   return Math.max(-UNMATCHED_NATS, Math.min(MAX_CREDIT_NATS, Math.log((spanNm * w) / (2 * tol))));
+}
+
+/** Whether every seed of a hypothesis lies on `model` within the matching tolerance. */
+function seedsOnModel(h: Hypothesis, model: PolynomialModel, featureNm: Float64Array, o: { tolerancePx: number; minToleranceNm: number }): boolean {
+  return h.seeds.every(([x, k]) => {
+    const tol = Math.max(o.tolerancePx * Math.abs(polynomialDispersionNmPerPx(model, x)), o.minToleranceNm);
+    return Math.abs(polynomialWavelengthNm(model, x) - featureNm[k]) <= tol;
+  });
 }
 
 function blendExtentNm(lines: readonly SpectralLine[]): number {
