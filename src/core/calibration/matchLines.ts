@@ -2,7 +2,7 @@ import { invalid } from '../errors.js';
 import type { Peak, SpectralLine } from '../types.js';
 import { COLOUR_PRIOR_DEFAULTS, colourBandNm, type ColourPriorOptions } from './colourPrior.js';
 import { fitGrating, type GratingFitOptions } from './gratingModel.js';
-import { type Ctx, lineSigmaNm, nearest, type Pair, type PeakItem, prepareLines, sigmaOf, strength } from './match/context.js';
+import { type Ctx, lineSigmaNm, nearest, type Pair, type PeakItem, prepareLines, samePairs, sigmaOf, strength } from './match/context.js';
 import { growSolution, type GrownSolution, refineSolution } from './match/growSolution.js';
 import { fitPairs, fitPairsParsimonious, residualPx } from './match/quickFit.js';
 import { countTrialsLog10, type MatchScore, scoreSolution } from './match/scoreSolution.js';
@@ -251,6 +251,8 @@ export function matchLines(
     if (grown >= 5 && solutions.some((s) => s.score.log10Chance <= STOP_LOG10_CHANCE)) break;
     grown++;
     const sol = growSolution(ctx, [...manual, ...seed]);
+    // Seeds often grow into the same solution: one copy is kept (the grating rescoring takes the best few distinct).
+    if (sol && solutions.some((s) => samePairs(s.pairs, sol.pairs))) continue;
     if (sol) solutions.push(vetoInvisible(ctx, { ...sol, score: scoreSolution(ctx, sol, parametersOf(ctx, sol.pairs)) }));
   }
   if (solutions.length === 0) {
@@ -263,7 +265,7 @@ export function matchLines(
     // The physics is the stronger constraint: a solution refitted with the grating model replaces the polynomial one
     // when it scores better, and also whenever it is itself significant — a flexible polynomial can bend to take a
     // line one off at the end of a long extrapolation, the physical model cannot.
-    const significant = (s: Solution) => s.score.log10Chance + log10Trials <= Math.log10(o.maxFalseMatchProbability);
+    const significant = (s: Solution) => s.score.log10Chance - s.score.log10Multiplicity + log10Trials <= Math.log10(o.maxFalseMatchProbability);
     for (let i = 0; i < Math.min(GRATING_RESCORED, solutions.length); i++) {
       // Two starts: all the pairs, and the densest stretch of them (whose model also judges the veto).
       const gAll = withGratingModel(ctx, solutions[i], o.grating, 'all');
@@ -283,7 +285,7 @@ export function matchLines(
           const sol = { ...refined, pairs: cleaned };
           solutions[i] = { ...sol, score: scoreSolution(ctx, sol, parametersOf(ctx, cleaned)) };
         } else {
-          solutions[i] = { ...solutions[i], score: { ...solutions[i].score, log10Chance: 0 } };
+          solutions[i] = { ...solutions[i], score: { ...solutions[i].score, log10Chance: 0, log10Multiplicity: 0 } };
         }
       }
     }
@@ -293,7 +295,7 @@ export function matchLines(
   solutions.sort(byScore);
   for (const sol of solutions) {
     sol.score.log10Trials = log10Trials;
-    sol.score.falseMatchProbability = Math.min(1, 10 ** (sol.score.log10Chance + log10Trials));
+    sol.score.falseMatchProbability = Math.min(1, 10 ** (sol.score.log10Chance - sol.score.log10Multiplicity + log10Trials));
   }
   const best = solutions[0];
   const centre = (best.pairs[0].x + best.pairs[best.pairs.length - 1].x) / 2;
@@ -358,7 +360,8 @@ const INVISIBLE_SHARE = 0.25;
  * The solution, or it with no significance when its scale puts invisiblePeaksVeto peaks of at least median strength,
  * and at least INVISIBLE_SHARE of them, more than INVISIBLE_MARGIN_NM below the sensitive range: no phone or webcam
  * records light there (glass optics and the sensor's cover glass absorb the UV below ~340 nm; common practice, no
- * source), so bright peaks cannot lie there. Beyond the matched lines the scale is continued straight with its end
+ * source), so bright peaks cannot lie there. Only peaks within one matched span of the matched lines count: that is
+ * where the first order lies when the second is taken for it. Beyond the matched lines the scale is continued straight with its end
  * dispersion (a polynomial's own extrapolation can turn anywhere; a grating's dispersion changes little across a band).
  */
 function vetoInvisible(ctx: Ctx, sol: Solution): Solution {
@@ -371,14 +374,19 @@ function vetoInvisible(ctx: Ctx, sol: Solution): Solution {
   const uvNm = ctx.o.wavelengthRangeNm[0] - INVISIBLE_MARGIN_NM;
   let invisible = 0;
   let bright = 0;
+  // Only the stretch next to the matched lines, one matched span long, can hold the first order of a second order
+  // taken for it (it lies between that and the zero order, over half the second order's span); peaks farther out are
+  // other light.
+  const reach = last - first;
   for (const p of ctx.P) {
     if (p.strength < median) continue;
     bright++;
+    if (p.x < first - reach || p.x > last + reach) continue;
     const end = p.x < first ? first : p.x > last ? last : p.x;
     const lam = wavelengthAtNm(sol.model, end) + dispersionAtNmPerPx(sol.model, end) * (p.x - end);
     if (lam < uvNm) invisible++;
   }
-  return invisible >= Math.max(limit, INVISIBLE_SHARE * bright) ? { ...sol, score: { ...sol.score, log10Chance: 0 } } : sol;
+  return invisible >= Math.max(limit, INVISIBLE_SHARE * bright) ? { ...sol, score: { ...sol.score, log10Chance: 0, log10Multiplicity: 0 } } : sol;
 }
 
 function explains(s: Solution, q: Pair): boolean {

@@ -169,13 +169,14 @@ async function calibrateRendered(k: number): Promise<Outcome & { inst: Instrumen
 
 describe('calibrateFromPeaks on rendered photos (render → JPEG → decode → band → peaks → calibrate)', () => {
   const PHOTOS = 16;
-  // Measured on the 16 photos: 4 calibrated right (Ne at 1.0 and 0.24 nm/px, Ar at 0.65 and 0.46 nm/px: 7–21 lines,
-  // RMS 0.01–0.07 nm), none wrong, 12 declined with the matcher's reason. Far below the issue's 95 %: at 0.4–1.8
-  // nm/px the peak finder flags most tube peaks as blended (neighbours within its separation), which the matcher
-  // neither seeds with nor counts, and the band it finds often takes in the second order — whose lines, matched as
-  // the first order, made a consistent but wrong scale in two of these photos until the invisible-peak veto
-  // (invisiblePeaksVeto) ruled such scales out. The floor sits a photo under the measurement.
-  it(`calibrates ≥ 3 of ${PHOTOS} seeded photos of the issue's instruments automatically and none wrongly`, async () => {
+  // Measured on the 16 photos: 5 calibrated right (Ne at 1.0, 0.24 nm/px; Ar at 0.65, 0.46 nm/px; Ne+Hg at 0.62
+  // nm/px: 8–20 lines, RMS 0.01–0.45 nm), none wrong, 11 declined with the matcher's reason. Far below the issue's
+  // 95 %: the band the peak finder takes often holds the second order (in 6 of the photos it gives 13–22 of the
+  // peaks, up to half of them), which the matcher does not model, and at 0.4–1.8 nm/px it flags many tube peaks as
+  // blended (neighbours within its separation), which the matcher neither seeds with nor counts. The second order's
+  // lines, matched as the first order, made a consistent but wrong scale in two of these photos until the
+  // invisible-peak veto (invisiblePeaksVeto) ruled such scales out. The floor sits a photo under the measurement.
+  it(`calibrates ≥ 4 of ${PHOTOS} seeded photos of the issue's instruments automatically and none wrongly`, async () => {
     const outcomes: Array<Awaited<ReturnType<typeof calibrateRendered>>> = [];
     for (let k = 0; k < PHOTOS; k++) outcomes.push(await calibrateRendered(k));
     const describe = (o: (typeof outcomes)[number]) =>
@@ -185,6 +186,6 @@ describe('calibrateFromPeaks on rendered photos (render → JPEG → decode → 
     const right = outcomes.filter((o) => o.kind === 'calibrated' && o.right).length;
     const wrong = outcomes.filter((o) => o.kind === 'calibrated' && !o.right);
     expect(wrong.map(describe)).toEqual([]);
-    expect(right, outcomes.map(describe).join('\n')).toBeGreaterThanOrEqual(3);
+    expect(right, outcomes.map(describe).join('\n')).toBeGreaterThanOrEqual(4);
   }, 240_000);
 });

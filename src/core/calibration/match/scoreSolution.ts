@@ -7,7 +7,7 @@
  */
 import { dispersionAtNmPerPx, wavelengthAtNm, type DispersionModel } from '../model.js';
 import { log10BinomialTail } from '../significance.js';
-import { type Ctx, lineSigmaNm, lowerBound, median, sigmaOf } from './context.js';
+import { type Ctx, lineSigmaNm, lowerBound, median, type Pair, sigmaOf } from './context.js';
 import type { GrownSolution } from './growSolution.js';
 import { rmsPx } from './quickFit.js';
 
@@ -26,7 +26,15 @@ export interface MatchScore {
   log10Chance: number;
   /** log10 of the number of scale hypotheses (peak pair × line pair within the dispersion prior). */
   log10Trials: number;
-  /** Bonferroni bound on the probability that chance produced a solution this good: 10^(log10Chance + log10Trials). */
+  /**
+   * log10 of how many of those hypotheses lead to this same solution: pairs of its matched peaks far enough apart
+   * (at least half its span) for the scale through them to predict the rest (see generatingPairsLog10).
+   */
+  log10Multiplicity: number;
+  /**
+   * Bound on the probability that chance produced a solution this good: 10^(log10Chance + log10Trials −
+   * log10Multiplicity).
+   */
   falseMatchProbability: number;
   tolerancePx: number;
   rmsPx: number;
@@ -126,6 +134,7 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
     expectedByChance: free + manualPeaks + nEff * pChance,
     log10Chance,
     log10Trials: 0,
+    log10Multiplicity: generatingPairsLog10(ctx, pairs),
     falseMatchProbability: 1,
     tolerancePx: tolPx,
     rmsPx: rmsPx(model, pairs),
@@ -165,3 +174,54 @@ export function countTrialsLog10(ctx: Ctx): number {
   if (o.direction === 'either') count *= 2;
   return Math.log10(Math.max(1, count));
 }
+
+/**
+ * log10 of the number of scale hypotheses that would each have found this solution. The trials factor
+ * (countTrialsLog10) counts every peak pair × line pair as a hypothesis of its own, but a solution with m matches is
+ * reached from many pairs of its matches: a chance solution shows up as some k hypotheses that all succeed at once.
+ * By Markov's inequality on the number of successful hypotheses, P(some chance solution this good) ≤ (trials ×
+ * per-hypothesis chance) / k — the union bound divided by the multiplicity (cf. the many minimal samples that give
+ * the same consensus set in RANSAC, Fischler & Bolles 1981). A pair of matches counts only when the straight scale
+ * through it already puts every other match of the solution within the growth's least tolerance — max(1 px, 3σ) plus
+ * twice the line's reference uncertainty — with no allowance for a bend (a hypothesis that needs the growth to follow
+ * a curve might grow elsewhere; an allowance of the curvature bound let partly wrong, bent solutions through in the
+ * seeded sweep). Only peaks that countTrialsLog10 counts take part: unblended, automatic, with a centroid good to
+ * half the widest tolerance.
+ */
+export function generatingPairsLog10(ctx: Ctx, pairs: readonly Pair[]): number {
+  const sel: Pair[] = [];
+  for (const q of pairs) {
+    if (q.manual || q.peak < 0) continue;
+    const p = ctx.P[q.peak];
+    if (!p.blended && p.sigma <= 0.5 * ctx.o.tolerancePx[1]) sel.push(q);
+  }
+  const m = sel.length;
+  if (m < 2) return 0;
+  sel.sort((a, b) => a.x - b.x);
+  const x = Float64Array.from(sel, (q) => q.x);
+  const lam = Float64Array.from(sel, (q) => q.lambda);
+  const basePx = Float64Array.from(sel, (q) => Math.max(GENERATING_TOLERANCE_PX, 3 * ctx.P[q.peak].sigma));
+  const refNm = Float64Array.from(sel, (q) => 2 * lineSigmaNm(ctx, q));
+  let k = 0;
+  for (let a = 0; a < m; a++) {
+    for (let b = a + 1; b < m; b++) {
+      const dx = x[b] - x[a];
+      if (!(dx > 0)) continue;
+      const disp = (lam[b] - lam[a]) / dx;
+      const ad = Math.abs(disp);
+      if (!(ad > 0)) continue;
+      let all = true;
+      for (let c = 0; c < m && all; c++) {
+        if (c === a || c === b) continue;
+        const offPx = Math.abs(lam[a] + disp * (x[c] - x[a]) - lam[c]) / ad;
+        const allowPx = basePx[c] + refNm[c] / ad;
+        if (offPx > allowPx) all = false;
+      }
+      if (all) k++;
+    }
+  }
+  return Math.log10(Math.max(1, k));
+}
+
+/** Least tolerance (px) of the two-point scales in generatingPairsLog10: growthSolution's least growth tolerance. */
+const GENERATING_TOLERANCE_PX = 1;
