@@ -45,7 +45,8 @@ export function measureHeight(image: LinearImage, band: BandGeometry, ambient?: 
 
 function crossProfileOnce(image: LinearImage, band: BandGeometry, halfWidthPx: number, ambient: Ambient | undefined): HeightMeasure {
   const rowStepPx = Math.max(1, (2 * halfWidthPx) / 250);
-  const stepPx = Math.max(1, band.lengthPx / 600);
+  // About 300 columns: the profile is the median over at most 300 bright ones (more were sampled and then thinned out).
+  const stepPx = Math.max(1, band.lengthPx / 300);
   const s = sampleBand(image, band, { halfWidthPx, rowStepPx, stepPx, combine: true, flagSaturated: false });
   if (ambient) subtractAmbient(s, band, ambient);
   const R = s.rows;
