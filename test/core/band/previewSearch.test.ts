@@ -3,6 +3,9 @@
  * which `glowprint spectrum` runs on large JPEGs while the full decode goes on: the band it leads to must be the one
  * the search on the photo itself finds, and as right against the renderer's truth.
  */
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { renderSpectroscopePhoto } from '../../../src/core/render/index.js';
 import { decimatePreview } from '../../../src/core/spectrum/band/decimate.js';
@@ -13,6 +16,7 @@ import { findPeaks } from '../../../src/core/spectrum/peaks/index.js';
 import type { BandGeometry, LinearImage, PointPx } from '../../../src/core/types.js';
 import { decodeImageStaged } from '../../../src/io/image.js';
 import { encodeRenderedPhoto } from '../../../src/io/writeRenderedPhoto.js';
+import { analyseSpectrumInput } from '../../../src/tasks/spectrum.js';
 import { median } from '../extract/lineCentres.js';
 import { angleErrorDeg, offCentreLinePx } from './recovery.js';
 
@@ -37,8 +41,27 @@ describe('findBand(image, { coarse: searchBandCoarse(decimatePreview(preview)) }
     expect(() => searchBandCoarse({ ...dec, width: 49 }, 400, 320)).toThrow(/coarse image.*50 × 40.*49 × 40/);
   });
 
+  it('averages a preview longer than coarseMaxSidePx further: an 8000 × 6000 photo’s 1000 × 750 preview becomes blocks of 16 px', () => {
+    const w = 1000;
+    const h = 750;
+    const data = new Float32Array(w * h * 3);
+    for (let k = 0; k < data.length; k++) data[k] = ((k * 7919) % 1000) / 1000;
+    const saturated = new Uint8Array(w * h);
+    saturated[0] = 1; // preview pixel (0, 0) clipped: a quarter of coarse block (0, 0)
+    const dec = decimatePreview({ width: w, height: h, channels: 3, data, saturated }, 8, 8000, 6000, 640, 0.999);
+    expect([dec.width, dec.height, dec.factor]).toEqual([500, 375, 16]);
+    // Block (X, Y) is the mean of preview pixels (2X…2X+1, 2Y…2Y+1), channel by channel.
+    for (const [X, Y, c] of [[0, 0, 0], [123, 45, 1], [499, 374, 2]]) {
+      let sum = 0;
+      for (let y = 2 * Y; y < 2 * Y + 2; y++) for (let x = 2 * X; x < 2 * X + 2; x++) sum += data[(y * w + x) * 3 + c];
+      expect(Math.abs(dec.planes[c][Y * 500 + X] - sum / 4)).toBeLessThanOrEqual(1e-6);
+    }
+    expect(dec.clipped[0]).toBe(0.25);
+    expect(dec.clipped[1]).toBe(0);
+  });
+
   it(
-    'on a rendered 4000 × 3000 JPEG (tilt −15°, slant +5°, 120 px): the same band as the search on the photo itself, and within the rendered-photo tolerances of the truth',
+    'on a rendered 4000 × 3000 JPEG (tilt −15°, slant +5°, 120 px): the same band as the search on the photo itself, within the rendered-photo tolerances of the truth, and what analyseSpectrumInput reports for the file',
     async () => {
       const source = {
         lines: Array.from({ length: 14 }, (_, k) => ({ wavelengthNm: 405 + 21.5 * k + 3 * Math.sin(k), intensity: k % 5 === 2 ? 6 : 1 + (k % 3) })),
@@ -80,6 +103,19 @@ describe('findBand(image, { coarse: searchBandCoarse(decimatePreview(preview)) }
       const errors = lineErrors(image, a, viaPreview.extraction, truth.band, truth.lines);
       expect(errors.length).toBeGreaterThanOrEqual(5);
       expect(median(errors)).toBeLessThanOrEqual(0.1);
+      // The spectrum task takes this path for the file (its stage 'coarse' runs on the preview) and gives this band.
+      const dir = mkdtempSync(path.join(tmpdir(), 'glowprint-preview-'));
+      try {
+        const file = path.join(dir, 'large.jpg');
+        writeFileSync(file, jpeg);
+        const stages: string[] = [];
+        const run = await analyseSpectrumInput(file, { onStage: (stage) => void stages.push(stage) });
+        expect(stages).toEqual(['coarse', 'decode', 'band', 'extract', 'peaks']);
+        const t = run.analysis.band!;
+        expect([t.angleDeg, t.slantDeg, t.center.x, t.center.y, t.lengthPx, t.heightPx]).toEqual([a.angleDeg, a.slantDeg, a.center.x, a.center.y, a.lengthPx, a.heightPx]);
+      } finally {
+        rmSync(dir, { recursive: true, force: true });
+      }
     },
     120_000,
   );
