@@ -12,10 +12,13 @@ const lines = loadLineList({ includeBands: true });
  * (selfCalibratedPhotos.ts; lines from NIST ASD, the outside reference, each ×3 at random), five per gas, on five
  * instruments (0.30–0.63 nm/px, wavelength growing either way), identified with no profile with the project's list.
  * Sodium counts as right when nothing is named (one doublet cannot set a scale) or when sodium is.
- * Measured when written: 33 of 40 (H, He, Ne, Ar, Hg, Na 5/5 each but Ar 4/5; Kr 2/5, Xe 2/5). The rendered xenon
- * tubes lack the list's strongest visible Xe I lines (462.4, 467.1 nm: the reference's Xe I lines start at 473 nm) and
- * every Xe II line (only neutral spectra are rendered), so their lines are the list's weaker ones; krypton's search
- * takes a Kr II line for a Kr I neighbour at the red end on some instruments. Floors sit two cases under.
+ * Measured: 35 of 40 (H, He, Ne, Hg, Na 5/5; Ar 4/5, Kr 4/5, Xe 2/5; before the brightest-line search scored matches
+ * by the species' prior weights and missing strong lines, 33 of 40 with Kr 2/5), and 33 of 40 on a second set of new
+ * seeds, evaluationSet(5, 5) (was 32). The rendered xenon tubes lack the list's strongest visible Xe I lines (462.4,
+ * 467.1 nm: the reference's Xe I lines start at 473 nm) and every Xe II line (only neutral spectra are rendered), and
+ * many of their lines are not in the list, so even on the true scale xenon clears presence by a few nats only; the
+ * krypton miss (0.30 nm/px webcam) takes the Kr II 647.1 nm line for Kr I 645.6 nm at the red end, beyond the lines
+ * that made the scale. Floors sit two cases under in all, one under per gas.
  */
 describe('identifySelfCalibrated on rendered tube photos (no profile)', () => {
   const photos = evaluationSet(5);
@@ -26,7 +29,7 @@ describe('identifySelfCalibrated on rendered tube photos (no profile)', () => {
     return top.element === p.gas && top.present;
   };
 
-  it('names the gas (top-1) in at least 31 of 40 photos, at least 1–4 of 5 per gas', () => {
+  it('names the gas (top-1) in at least 33 of 40 photos, at least 1–4 of 5 per gas', () => {
     const perGas = new Map<string, number>(SELF_GASES.map((g) => [g, 0]));
     const misses: string[] = [];
     for (const { p, r } of results) {
@@ -34,8 +37,8 @@ describe('identifySelfCalibrated on rendered tube photos (no profile)', () => {
       else misses.push(`${p.gas} on ${p.instrument} → ${r.species.filter((s) => s.present).map((s) => s.element).join('+') || 'nothing'}`);
     }
     const total = [...perGas.values()].reduce((a, b) => a + b, 0);
-    expect(total, misses.join('; ')).toBeGreaterThanOrEqual(31);
-    const floors: Record<string, number> = { H: 4, He: 4, Ne: 4, Ar: 3, Kr: 1, Xe: 1, Hg: 4, Na: 4 };
+    expect(total, misses.join('; ')).toBeGreaterThanOrEqual(33);
+    const floors: Record<string, number> = { H: 4, He: 4, Ne: 4, Ar: 3, Kr: 3, Xe: 1, Hg: 4, Na: 4 };
     for (const g of SELF_GASES) expect(perGas.get(g)!, `${g}: ${misses.join('; ')}`).toBeGreaterThanOrEqual(floors[g]);
   });
 
@@ -65,9 +68,10 @@ describe('identifySelfCalibrated on rendered tube photos (no profile)', () => {
       expect(self.evidenceTerms.penalty, `${p.gas} ${p.instrument}`).toBeGreaterThan(0);
       expect(r.calibration!.probability).toBeLessThanOrEqual(1);
     }
-    expect(checked).toBeGreaterThanOrEqual(24);
-    // Measured: 329 of 331 lines within 1 nm (argon on the 0.30 nm/px webcam: the two bluest lines put on Ar I
-    // lines about 3 nm from their own by the line matcher, a weakness at the ends of the band).
+    expect(checked).toBeGreaterThanOrEqual(28);
+    // Measured: 347 of 349 lines within 1 nm (argon on the 0.30 nm/px webcam: the two bluest lines put on Ar I
+    // lines about 3 nm from their own by the line matcher, a weakness at the ends of the band); second seed set 346
+    // of 347.
     expect(within / lineCount, `${within}/${lineCount}: ${far.join('; ')}`).toBeGreaterThanOrEqual(0.95);
   });
 
