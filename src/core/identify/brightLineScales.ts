@@ -74,9 +74,12 @@ const OUTSIDE_NATS = 3;
  * Scale hypotheses from intensity ranks, complementing the spacing-ratio matcher for species with few lines: the
  * brightest peaks of a tube are its strongest lines, so each triple of the brightest peaks is put on each triple of
  * the species' strongest features (either direction of dispersion), the quadratic scale through them kept when its
- * dispersion and curvature are plausible, and scored by how many peaks land on the species' features. The best few
- * per species are grown — nearest peaks first, each matched and the scale refitted — and go on, with all their
- * matches, to be fitted and judged by the identification on their scale.
+ * dispersion and curvature are plausible, and scored: each of the brightest peaks on a feature earns its likelihood
+ * ratio under the species' prior weights (matchCredit; the camera's response taken into account), each off every
+ * feature costs UNMATCHED_NATS, and each strong feature the scale puts inside the spectrum with no peak near costs
+ * MISSING_NATS. The best few per species are grown — nearest peaks first, each matched to its likeliest feature and
+ * the scale refitted — polished (outliers clipped, all peaks matched again within a tight tolerance), and go on, with
+ * all their matches, to be fitted and judged by the identification on their scale.
  */
 export function brightLineScales(
   peaks: readonly Peak[],
@@ -265,7 +268,7 @@ function curvatureNm(x: number, x0: number, x1: number, slope: number): number {
 /** Most the dispersion may change across three seed lines, as a share of its value (common practice, no source). */
 const MAX_CURVATURE = 0.3;
 
-/** One match is worth at most this much (nats): an isolated feature hit within a tight tolerance. */
+/** One match is worth at most this much (nats): a strong feature hit within a tight tolerance. */
 const MAX_CREDIT_NATS = 4;
 /** Slack on the seeds' grating-curvature test for their centroid errors (share of the dispersion). */
 const SEED_CURVATURE_SLACK = 0.05;
@@ -662,17 +665,6 @@ function missingNatsOfModel(
     tols[i] = Math.max(o.tolerancePx * Math.abs(polynomialDispersionNmPerPx(model, x)), o.minToleranceNm);
   }
   return missingFrom(strongNm, mapped, tols);
-}
-
-/** Half-width of the window over which the species' feature density is counted (nm). */
-const DENSITY_HALF_WIDTH_NM = 10;
-
-/**
- * Features per nm around a wavelength (at least one: the feature matched may lie beyond the window): the chance that a
- * peak at a random wavelength near here lands on one within ±tol is about 2·tol times this.
- */
-function localDensity(sorted: Float64Array, v: number): number {
-  return Math.max(1, lowerBound(sorted, v + DENSITY_HALF_WIDTH_NM) - lowerBound(sorted, v - DENSITY_HALF_WIDTH_NM)) / (2 * DENSITY_HALF_WIDTH_NM);
 }
 
 function lowerBound(sorted: Float64Array, v: number): number {
