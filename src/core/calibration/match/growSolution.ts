@@ -78,7 +78,12 @@ export function matchWindow(
     const line = s.order[u];
     const peak = s.bestPeak[line];
     s.bestPeak[line] = -1;
-    out.push({ peak, line, x: px[peak], lambda: L[line].wavelengthNm, manual: false });
+    // One Pair object per peak and line for the whole search (pairs are never changed): the growth makes these by
+    // the thousand, and their garbage cost more than the matching.
+    const key = peak * L.length + line;
+    let pair = s.pairs[key];
+    if (!pair) pair = s.pairs[key] = { peak, line, x: px[peak], lambda: L[line].wavelengthNm, manual: false };
+    out.push(pair);
   }
   out.sort((a, b) => a.x - b.x);
   return out;
@@ -91,6 +96,8 @@ interface WindowScratch {
   peakTaken: Uint8Array;
   lineTaken: Uint8Array;
   index: LineIndex;
+  /** The automatic pairs made so far, by peak × lines + line. */
+  pairs: (Pair | undefined)[];
 }
 
 /** The search's scratch arrays for matchWindow, made once per search context (bestPeak is kept at −1 between calls). */
@@ -112,6 +119,7 @@ function windowScratch(ctx: Ctx): WindowScratch {
       peakTaken,
       lineTaken,
       index: new LineIndex(ctx.lw),
+      pairs: new Array<Pair | undefined>(ctx.px.length * ctx.lw.length),
     };
     WINDOW_SCRATCH.set(ctx, s);
   }

@@ -2,7 +2,7 @@
 import { informationCriterion } from '../informationCriterion.js';
 import { dispersionAtNmPerPx, wavelengthAtNm, type DispersionModel } from '../model.js';
 import { polynomialDispersionNmPerPx, polynomialWavelengthNm, type PolynomialModel } from '../polynomialModel.js';
-import { type Ctx, lineSigmaNm, median, type Pair, sigmaOf } from './context.js';
+import { type Ctx, lineSigmaNm, type Pair, sigmaOf } from './context.js';
 
 export interface QuickFit {
   model: PolynomialModel;
@@ -96,6 +96,7 @@ const SCRATCH = {
   li: new Float64Array(MAX_TERMS * MAX_TERMS),
   sx: new Float64Array(64),
   sr: new Float64Array(64),
+  res: new Float64Array(64),
 };
 
 /**
@@ -184,8 +185,14 @@ export function residualPx(model: DispersionModel, q: Pair): number {
 
 /** 1.4826 × median |residual| (px) of the automatic, unblended pairs: the good ones' scatter, barely moved by bad ones. */
 export function robustScatterPx(ctx: Ctx, model: DispersionModel, pairs: readonly Pair[]): number {
-  const res = pairs.filter((q) => !q.manual && !(q.peak >= 0 && ctx.P[q.peak].blended)).map((q) => Math.abs(residualPx(model, q)));
-  return res.length ? 1.4826 * median(res) : 0;
+  let res = SCRATCH.res;
+  if (res.length < pairs.length) res = SCRATCH.res = new Float64Array(2 * pairs.length);
+  let n = 0;
+  for (const q of pairs) if (!q.manual && !(q.peak >= 0 && ctx.P[q.peak].blended)) res[n++] = Math.abs(residualPx(model, q));
+  if (n === 0) return 0;
+  const v = res.subarray(0, n).sort();
+  const h = n >> 1;
+  return 1.4826 * (n % 2 ? v[h] : (v[h - 1] + v[h]) / 2);
 }
 
 export function rmsPx(model: DispersionModel, pairs: readonly Pair[]): number {

@@ -97,6 +97,11 @@ export function tripletSeeds(ctx: Ctx): { seeds: Pair[][]; tested: number } {
   const nbIdx = new Int32Array(px.length);
   const nbTol = new Float64Array(px.length);
   const nbDx = new Float64Array(px.length);
+  // ln p and ln(1 − p) by count of lines, valid for the peak triplet whose stamp they carry.
+  const lnpOf = new Float64Array(lw.length + 2);
+  const lnqOf = new Float64Array(lw.length + 2);
+  const lnStamp = new Int32Array(lw.length + 2);
+  let stamp = 0;
   // Hypotheses with local support, in typed arrays (score and the six indices); those without are kept only up to
   // the number of seeds (sparse spectra have no neighbours to support anything; dense ones have plenty of supported
   // hypotheses), which keeps the list, its selection and the garbage small.
@@ -140,6 +145,11 @@ export function tripletSeeds(ctx: Ctx): { seeds: Pair[][]; tested: number } {
           nb++;
           tolSum += tolPx;
         }
+        // The chance p that a neighbour lands on some line, 2·(mean tolerance)·|dλ/dx|·(lines in the window)/(window
+        // in nm), is (lines in the window) times a constant of the peaks: the dispersion cancels. Its logarithms, for
+        // the pruning bound, are kept per count of lines.
+        const pPerLine = nb > 0 ? (2 * (tolSum / nb)) / (x1 - x0) : 0;
+        stamp++;
         const lo = lowerBound(ratios, r - tol);
         for (let t = lo; t < ratios.length && ratios[t] <= r + tol; t++) {
           tested++;
@@ -167,14 +177,19 @@ export function tripletSeeds(ctx: Ctx): { seeds: Pair[][]; tested: number } {
           const wlo = Math.min(l0, l1);
           const whi = Math.max(l0, l1);
           const count = Math.max(index.lowerBound(whi) - index.lowerBound(wlo), 1);
-          const p = Math.min(1, (2 * (tolSum / nb) * ad * count) / Math.max(whi - wlo, 1e-9));
+          const p = Math.min(1, pPerLine * count);
           // Once nSeeds supported hypotheses are held, one is looked at further only while it can still beat the
           // worst of them: its score −log10 P(X ≥ hits) is at most −log10 of the tail's first term, and the hits
           // can reach at most those so far plus the neighbours left (an exact bound, so the seeds are the same).
           const prune = hyps.full();
           const threshold = prune ? hyps.worstScore() + BOUND_MARGIN : 0;
-          const lnp = prune ? Math.log(p) : 0;
-          const lnq = prune ? Math.log1p(-p) : 0;
+          if (prune && lnStamp[count] !== stamp) {
+            lnStamp[count] = stamp;
+            lnpOf[count] = Math.log(p);
+            lnqOf[count] = Math.log1p(-p);
+          }
+          const lnp = lnpOf[count];
+          const lnq = lnqOf[count];
           if (prune && boundScore(nb, nb, p, lnp, lnq) < threshold) continue;
           let hit = 0;
           let pruned = false;
