@@ -139,6 +139,12 @@ interface Solution extends GrownSolution {
 
 /** The search stops once a solution's chance probability falls below 10^this (before the trials factor). */
 const STOP_LOG10_CHANCE = -15;
+/**
+ * The best solution must be at least 10^this times less likely by chance than the best one that maps the peaks
+ * differently (both with their multiplicity). In the seeded sweep every right solution cleared it by 10^3.2 or more,
+ * and the one wrong solution that beat chance (a Ne spectrum mirrored onto its own dense 580–660 nm lines) by 10^2.75.
+ */
+const MIN_RUNNER_UP_MARGIN = 3;
 /** A pair the physical model puts more than this many standard deviations off is vetoed. */
 const VETO_SIGMA = 5;
 /** A core of pairs counts as consistent with the physical model up to this χ²/dof. */
@@ -303,9 +309,15 @@ export function matchLines(
   const runner = solutions.find(
     (s) => Math.abs(wavelengthAtNm(s.model, centre) - wavelengthAtNm(best.model, centre)) > 3 * best.score.tolerancePx * dBest,
   );
-  const accepted =
+  const significant =
     best.score.falseMatchProbability <= o.maxFalseMatchProbability &&
     best.score.matched >= Math.min(o.minMatches, Math.max(2, manual.length));
+  // Another assignment nearly as good is no identification, however unlikely chance makes both: a lamp's own
+  // pattern of lines, shifted or mirrored onto a dense stretch of it, is no random pattern (see MIN_RUNNER_UP_MARGIN).
+  const evidence = (s: MatchScore) => s.log10Chance - s.log10Multiplicity;
+  const ambiguous =
+    significant && manual.length < 2 && runner !== undefined && evidence(runner.score) - evidence(best.score) < MIN_RUNNER_UP_MARGIN;
+  const accepted = significant && !ambiguous;
   const matches: LineMatch[] = best.pairs.map((q) => {
     const peak = q.peak >= 0 ? P[q.peak] : null;
     const src = peak ? peaks[peak.index] : null;
@@ -331,7 +343,11 @@ export function matchLines(
   }
   return {
     accepted,
-    message: accepted ? '' : noMatchMessage(P.length, L.length, best.score),
+    message: accepted
+      ? ''
+      : ambiguous && runner
+        ? ambiguityMessage(best.score, runner.score)
+        : noMatchMessage(P.length, L.length, best.score),
     matches,
     model: best.model,
     score: best.score,
@@ -491,6 +507,15 @@ function densestStretch(pairs: readonly Pair[]): Pair[] {
 
 function formatProbability(p: number): string {
   return p >= 0.01 ? p.toFixed(2) : p.toExponential(0);
+}
+
+function ambiguityMessage(best: MatchScore, runner: MatchScore): string {
+  const gap = runner.log10Chance - runner.log10Multiplicity - (best.log10Chance - best.log10Multiplicity);
+  return (
+    `the peaks fit two assignments of the lamp's lines almost equally well: the best matches ${best.matched} of ` +
+    `${best.peaksInRange} peaks, another that puts them at other wavelengths matches ${runner.matched} and is only ` +
+    `1e${gap.toFixed(1)} times less likely; give --pairs (a known line or two) to tell them apart`
+  );
 }
 
 function noMatchMessage(peaks: number, lines: number, s: MatchScore | null): string {

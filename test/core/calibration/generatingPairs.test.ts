@@ -1,4 +1,5 @@
 import { describe, expect, it } from 'vitest';
+import { gratingWavelengthNm, type GratingModel } from '../../../src/core/calibration/gratingModel.js';
 import { MATCH_LINES_DEFAULTS } from '../../../src/core/calibration/matchLines.js';
 import type { Ctx, Pair, PeakItem } from '../../../src/core/calibration/match/context.js';
 import { generatingPairsLog10 } from '../../../src/core/calibration/match/scoreSolution.js';
@@ -33,5 +34,26 @@ describe('generatingPairsLog10(ctx, pairs): how many two-point scale hypotheses 
     expect(Math.abs(10 ** generatingPairsLog10(context(xs, 0.1, [0, 3]), pairs) - 15)).toBeLessThanOrEqual(1e-9);
     const manual = pairs.map((q, i) => (i < 7 ? { ...q, manual: true } : q));
     expect(generatingPairsLog10(context(xs), manual)).toBe(0);
+  });
+  it('allows a grating solution the bend of its own physical model, and a polynomial none', () => {
+    // 1200 lines/mm seen by a wide-angle camera (f = 900 px): across 800 px the dispersion changes by a third, so no
+    // straight two-point scale puts the far matches within 1 px; the physical model's own chord departure does.
+    const grating: GratingModel = {
+      kind: 'grating',
+      order: 1,
+      incidenceAngleDeg: 0,
+      direction: 1,
+      grooveSpacingNm: 1e6 / 1200,
+      cameraAngleDeg: 35,
+      axisPositionPx: 450,
+      focalLengthPx: 900,
+      covariance: [],
+      free: [true, true, true, true],
+    };
+    const pairs = pairsOn(xs, (x) => gratingWavelengthNm(grating, x));
+    const straight = 10 ** generatingPairsLog10(context(xs), pairs);
+    const physical = 10 ** generatingPairsLog10(context(xs), pairs, grating);
+    expect(straight).toBeLessThan(28);
+    expect(Math.abs(physical - 28)).toBeLessThanOrEqual(1e-9);
   });
 });

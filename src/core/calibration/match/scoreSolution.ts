@@ -134,7 +134,7 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
     expectedByChance: free + manualPeaks + nEff * pChance,
     log10Chance,
     log10Trials: 0,
-    log10Multiplicity: generatingPairsLog10(ctx, pairs),
+    log10Multiplicity: generatingPairsLog10(ctx, pairs, model),
     falseMatchProbability: 1,
     tolerancePx: tolPx,
     rmsPx: rmsPx(model, pairs),
@@ -183,12 +183,13 @@ export function countTrialsLog10(ctx: Ctx): number {
  * per-hypothesis chance) / k — the union bound divided by the multiplicity (cf. the many minimal samples that give
  * the same consensus set in RANSAC, Fischler & Bolles 1981). A pair of matches counts only when the straight scale
  * through it already puts every other match of the solution within the growth's least tolerance — max(1 px, 3σ) plus
- * twice the line's reference uncertainty — with no allowance for a bend (a hypothesis that needs the growth to follow
- * a curve might grow elsewhere; an allowance of the curvature bound let partly wrong, bent solutions through in the
- * seeded sweep). Only peaks that countTrialsLog10 counts take part: unblended, automatic, with a centroid good to
- * half the widest tolerance.
+ * twice the line's reference uncertainty — allowing only for the bend the physics gives: for a solution of the
+ * grating model (whose priors pin the focal length, and with it how the dispersion changes across the band) the
+ * model's own departure from its chord between the two; for a polynomial none (its bend may be the wrong matches' own:
+ * an allowance of the curvature bound let partly wrong, bent solutions through in the seeded sweep). Only peaks that
+ * countTrialsLog10 counts take part: unblended, automatic, with a centroid good to half the widest tolerance.
  */
-export function generatingPairsLog10(ctx: Ctx, pairs: readonly Pair[]): number {
+export function generatingPairsLog10(ctx: Ctx, pairs: readonly Pair[], model: DispersionModel | null = null): number {
   const sel: Pair[] = [];
   for (const q of pairs) {
     if (q.manual || q.peak < 0) continue;
@@ -202,6 +203,7 @@ export function generatingPairsLog10(ctx: Ctx, pairs: readonly Pair[]): number {
   const lam = Float64Array.from(sel, (q) => q.lambda);
   const basePx = Float64Array.from(sel, (q) => Math.max(GENERATING_TOLERANCE_PX, 3 * ctx.P[q.peak].sigma));
   const refNm = Float64Array.from(sel, (q) => 2 * lineSigmaNm(ctx, q));
+  const physics = model && model.kind === 'grating' ? Float64Array.from(sel, (q) => wavelengthAtNm(model, q.x)) : null;
   let k = 0;
   for (let a = 0; a < m; a++) {
     for (let b = a + 1; b < m; b++) {
@@ -214,7 +216,9 @@ export function generatingPairsLog10(ctx: Ctx, pairs: readonly Pair[]): number {
       for (let c = 0; c < m && all; c++) {
         if (c === a || c === b) continue;
         const offPx = Math.abs(lam[a] + disp * (x[c] - x[a]) - lam[c]) / ad;
-        const allowPx = basePx[c] + refNm[c] / ad;
+        const w = (x[c] - x[a]) / dx;
+        const bendNm = physics ? Math.abs(physics[c] - (physics[a] + w * (physics[b] - physics[a]))) : 0;
+        const allowPx = basePx[c] + (refNm[c] + bendNm) / ad;
         if (offPx > allowPx) all = false;
       }
       if (all) k++;
