@@ -251,7 +251,10 @@ class HypothesisList {
       x.set(this.idx);
       this.idx = x;
     }
-    const h = this.length++;
+    this.set(this.length++, score, i, j, k, a, b, c);
+  }
+  /** Writes a hypothesis into a slot. */
+  protected set(h: number, score: number, i: number, j: number, k: number, a: number, b: number, c: number): void {
     this.score[h] = score;
     const o = 6 * h;
     this.idx[o] = i;
@@ -305,15 +308,8 @@ class TopHypotheses extends HypothesisList {
     // A later hypothesis of equal score ranks after the held one: only a higher score enters.
     if (!(score > this.worstScore())) return;
     const slot = this.heap[0];
-    this.score[slot] = score;
+    this.set(slot, score, i, j, k, a, b, c);
     this.order[slot] = n;
-    const o = 6 * slot;
-    this.idx[o] = i;
-    this.idx[o + 1] = j;
-    this.idx[o + 2] = k;
-    this.idx[o + 3] = a;
-    this.idx[o + 4] = b;
-    this.idx[o + 5] = c;
     // Sift down.
     let pos = 0;
     for (;;) {
