@@ -55,13 +55,8 @@ function crossProfileOnce(image: LinearImage, band: BandGeometry, halfWidthPx: n
   // Rows inside the image in at least half of the columns; the outermost 12 % of them on each side are background.
   let r0 = 0;
   let r1 = R - 1;
-  const inside = (j: number): boolean => {
-    let n = 0;
-    for (let i = 0; i < N; i++) n += s.valid[i * R + j];
-    return n >= 0.5 * N;
-  };
-  while (r0 < R - 1 && !inside(r0)) r0++;
-  while (r1 > r0 && !inside(r1)) r1--;
+  while (r0 < R - 1 && !rowInside(s.valid, N, R, r0)) r0++;
+  while (r1 > r0 && !rowInside(s.valid, N, R, r1)) r1--;
   const nb = Math.max(2, Math.round((r1 - r0 + 1) * 0.12));
   const bg = columnBackground(s.planes[0], s.valid, N, R, q, [r0, r0 + nb - 1], [r1 - nb + 1, r1], 9);
   const plane = s.planes[0];
@@ -92,18 +87,10 @@ function crossProfileOnce(image: LinearImage, band: BandGeometry, halfWidthPx: n
   let jp = r0;
   for (let j = r0 + 1; j <= r1; j++) if (sm[j] > sm[jp]) jp = j;
   const peak = sm[jp];
-  const crossing = (level: number, dir: 1 | -1): number | null => {
-    for (let j = jp; j + dir >= r0 && j + dir <= r1; j += dir) {
-      const a = sm[j];
-      const b = sm[j + dir];
-      if (b < level) return q[j] + ((a - level) / (a - b)) * (q[j + dir] - q[j]);
-    }
-    return null;
-  };
-  const lo = crossing(0.5 * peak, -1);
-  const hi = crossing(0.5 * peak, 1);
-  const lo10 = crossing(0.1 * peak, -1);
-  const hi10 = crossing(0.1 * peak, 1);
+  const lo = crossing(sm, q, jp, r0, r1, 0.5 * peak, -1);
+  const hi = crossing(sm, q, jp, r0, r1, 0.5 * peak, 1);
+  const lo10 = crossing(sm, q, jp, r0, r1, 0.1 * peak, -1);
+  const hi10 = crossing(sm, q, jp, r0, r1, 0.1 * peak, 1);
   const clipped = r0 > 0 || r1 < R - 1;
   const complete = clipped || (lo !== null && hi !== null && peak > 0 && lo > q[r0 + nb] && hi < q[r1 - nb]);
   const L = lo ?? q[r0];
@@ -117,6 +104,26 @@ function crossProfileOnce(image: LinearImage, band: BandGeometry, halfWidthPx: n
     profile: { offsetPx: Float64Array.from(q), value },
     complete,
   };
+}
+
+// rowInside and crossing are module functions, not closures made per call (see components.ts find: V8 drops a dead
+// closure's optimized code at the next mark-compact, so each photo compiled them again).
+
+/** Row j lies inside the image in at least half of the N columns. */
+function rowInside(valid: Uint8Array, N: number, R: number, j: number): boolean {
+  let n = 0;
+  for (let i = 0; i < N; i++) n += valid[i * R + j];
+  return n >= 0.5 * N;
+}
+
+/** Offset where the smoothed profile, walking from row jp in direction dir within [r0, r1], first falls below level. */
+function crossing(sm: Float64Array, q: Float64Array, jp: number, r0: number, r1: number, level: number, dir: 1 | -1): number | null {
+  for (let j = jp; j + dir >= r0 && j + dir <= r1; j += dir) {
+    const a = sm[j];
+    const b = sm[j + dir];
+    if (b < level) return q[j] + ((a - level) / (a - b)) * (q[j + dir] - q[j]);
+  }
+  return null;
 }
 
 // The two loops below are functions of their own (measureHeight runs a few times per photo; see extract.ts for why).
