@@ -155,14 +155,18 @@ const MIN_SCALE_LINES = 4;
 /**
  * Identification with no profile: the spectrum calibrates itself.
  *
- * 1. Candidate scales: for each line-rich lamp (`matcherLamps`: Ne, Ar) its lines go to the automatic line matcher
- *    (calibration/matchLines.ts); its best solution with at least 4 lines is fitted (scaleFit.ts), whether or not
- *    the matcher accepted it on its own. Solutions that put the peaks at the same wavelengths are merged. The other
- *    single-element lamps get scale hypotheses from their brightest peaks (brightLineScales.ts); mixtures are found
- *    on one gas's scale, refitted in step 2. Scales that collapse or turn over across the spectrum are dropped.
- * 2. On each scale the peaks are identified with the whole line list (identifySpecies), then the scale is refitted
- *    to every single, unblended line the identification placed with confidence ≥ 0.9 and the peaks identified again;
- *    the refit is kept when it explains the peaks better.
+ * 1. Candidate scales: for each line-rich lamp (`matcherLamps`: Ar, then Ne) its lines go to the automatic line
+ *    matcher (calibration/matchLines.ts); its best solution with at least 4 lines is fitted (scaleFit.ts), whether
+ *    or not the matcher accepted it on its own. Solutions that put the peaks at the same wavelengths are merged. A
+ *    decisive solution (`decisiveLog10FalseMatch`) ends the search there. Otherwise the other single-element lamps get
+ *    scale hypotheses from their brightest peaks (brightLineScales.ts); mixtures are found on one gas's scale,
+ *    refitted in step 2. Scales that collapse or turn over across the spectrum, or whose dispersion lies more than a
+ *    factor of 2 outside the plausible range (the photo's prior `match.dispersionNmPerPx`, dispersionPrior.ts), are
+ *    dropped.
+ * 2. Each scale is screened with its own lamp's lines alone (the lamp must come within `screenMarginNats` of
+ *    presence on the scale its lines made); on a scale that passes, the peaks are identified with the whole line list
+ *    (identifySpecies), then the scale is refitted to every single, unblended line the identification placed with
+ *    confidence ≥ 0.9 and the peaks identified again; the refit is kept when it explains the peaks better.
  * 3. Scales are ranked by the joint evidence J = modelEvidence − ln T, T the number of scale hypotheses the search
  *    could produce (the matcher's count, or the brightest-line pairs tried: the look-elsewhere cost of the search). Their posterior probabilities, with "none of these scales" at J = 2 (`noneEvidence`),
  *    are p_c = e^{J_c} / (1 + Σ e^{J}); a species' score is its score on each scale weighted by p_c (Bayesian model
