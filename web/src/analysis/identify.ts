@@ -7,6 +7,7 @@
 import { wavelengthAtNm } from '../../../src/core/calibration/model.js';
 import type { InstrumentProfile } from '../../../src/core/calibration/profile.js';
 import type { CalibrationScale } from '../../../src/core/calibration/uncertainty.js';
+import { dispersionPriorNmPerPx } from '../../../src/core/identify/dispersionPrior.js';
 import type { CalibratedPeak } from '../../../src/core/identify/identifySpecies.js';
 import { identifySpectrum, type IdentifyInput, type SpectrumIdentification } from '../../../src/core/identify/identifySpectrum.js';
 import { lampCatalog } from '../data/catalog.js';
@@ -42,7 +43,10 @@ export function identifyCapture(capture: SpectrumCapture, profile: InstrumentPro
     sampleWavelengthNm = capture.spectrum.wavelengthNm;
     input = { from: 'file', peaks: capture.peaks as CalibratedPeak[], coveredRangeNm: range(sampleWavelengthNm) };
   } else {
-    input = { from: 'self', peaks: capture.peaks, positionRangePx: [pos[0], pos[pos.length - 1]] };
+    // As the CLI does for a photo: its size bounds the dispersion a grating spectroscope can give (the usual 35-mm
+    // equivalents; the browser reads no EXIF), and the self-calibration tries no scale outside that range.
+    const dispersionNmPerPx = capture.image ? dispersionPriorNmPerPx({ image: capture.image }) : undefined;
+    input = { from: 'self', peaks: capture.peaks, positionRangePx: [pos[0], pos[pos.length - 1]], ...(dispersionNmPerPx ? { dispersionNmPerPx } : {}) };
   }
   const identification = identifySpectrum(input, { lines, lasers });
   if (identification.scale) sampleWavelengthNm = Float64Array.from(pos, (x) => wavelengthAtNm(identification.scale!.model, x));
