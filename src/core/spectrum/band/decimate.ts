@@ -274,41 +274,7 @@ export function decimatePreview(
     throw invalid('preview', `${Math.ceil(widthPx / scale)} × ${Math.ceil(heightPx / scale)} px (1/${scale} of the photo)`, `${preview.width} × ${preview.height}`);
   }
   const g = Math.max(1, Math.ceil(Math.max(preview.width, preview.height) / coarseMaxSidePx));
-  const dec = g === 1 ? planesOf(preview, saturationLevel) : decimate(preview, g, saturationLevel);
+  const dec = decimate(preview, g, saturationLevel); // g = 1: a copy into planes, clipped fraction 0 or 1
   // Blocks of g preview pixels are blocks of g·scale photo pixels: ⌈⌈W/scale⌉/g⌉ = ⌈W/(g·scale)⌉, as decimate() counts them.
   return { ...dec, factor: g * scale };
-}
-
-/** decimate(image, 1) by a plain copy into planes: each 1 × 1 block's mean is its pixel, its clipped fraction 0 or 1. */
-function planesOf(image: LinearImage, saturationLevel: number): Decimated {
-  const px = pixelAccess(image, saturationLevel);
-  if (px.codeToLinear !== null) return decimate(image, 1, saturationLevel); // codes: not what io's preview holds
-  const n = px.width * px.height;
-  const C = px.channels;
-  const planes = Array.from({ length: C }, () => new Float32Array(n));
-  const clipped = new Float32Array(n);
-  for (let c = 0; c < C; c++) copyChannel(px.values as Float32Array, C, c, planes[c], n);
-  clippedOf(px, clipped, n);
-  return { width: px.width, height: px.height, factor: 1, planes, clipped };
-}
-
-function copyChannel(values: Float32Array, C: number, c: number, plane: Float32Array, n: number): void {
-  for (let p = 0; p < n; p++) plane[p] = values[p * C + c];
-}
-
-/** 1 where the pixel is clipped: the decoder's flag, else any channel at or above the level (as rowLinear3/rowGreyLinear). */
-function clippedOf(px: PixelAccess, clipped: Float32Array, n: number): void {
-  const flags = px.saturatedFlags;
-  const values = px.values as Float32Array;
-  const C = px.channels;
-  const level = px.saturationLevel;
-  if (flags !== null) {
-    for (let p = 0; p < n; p++) clipped[p] = flags[p] !== 0 ? 1 : 0;
-    return;
-  }
-  for (let p = 0; p < n; p++) {
-    let any = 0;
-    for (let c = 0; c < C; c++) if (values[p * C + c] >= level) any = 1;
-    clipped[p] = any;
-  }
 }
