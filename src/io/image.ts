@@ -207,14 +207,9 @@ function orientUpright(codes: Uint8Array, W: number, H: number, C: number, orien
   const out = new Uint8Array(codes.length);
   for (let y = 0; y < h; y++) {
     for (let x = 0; x < w; x++) {
-      const [xs, ys] =
-        orientation === 2 ? [W - 1 - x, y]
-        : orientation === 3 ? [W - 1 - x, H - 1 - y]
-        : orientation === 4 ? [x, H - 1 - y]
-        : orientation === 5 ? [y, x]
-        : orientation === 6 ? [y, H - 1 - x]
-        : orientation === 7 ? [W - 1 - y, H - 1 - x]
-        : [W - 1 - y, x];
+      // No [xs, ys] array per pixel: a preview has ~10⁵–10⁶ of them.
+      const xs = orientation === 2 || orientation === 3 ? W - 1 - x : orientation === 4 ? x : orientation <= 6 ? y : W - 1 - y;
+      const ys = orientation === 2 ? y : orientation === 3 || orientation === 4 ? H - 1 - y : orientation === 5 || orientation === 8 ? x : H - 1 - x;
       for (let c = 0; c < C; c++) out[(y * w + x) * C + c] = codes[(ys * W + xs) * C + c];
     }
   }
