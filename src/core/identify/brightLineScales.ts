@@ -1,4 +1,5 @@
 import type { CalibrationPoint } from '../calibration/fitDispersion.js';
+import { MATCH_LINES_DEFAULTS } from '../calibration/matchLines.js';
 import {
   fitPolynomial,
   polynomialDispersionNmPerPx,
@@ -47,7 +48,7 @@ export interface BrightLineOptions {
 }
 
 export const BRIGHT_LINE_DEFAULTS = {
-  dispersionNmPerPx: [0.05, 2] as readonly [number, number],
+  dispersionNmPerPx: MATCH_LINES_DEFAULTS.dispersionNmPerPx as readonly [number, number],
   seedPeaks: 6,
   seedFeatures: [12, 12, 2] as readonly [number, number, number],
   seenRangeNm: [400, 700] as readonly [number, number],

@@ -1,3 +1,4 @@
+import { MATCH_LINES_DEFAULTS } from '../calibration/matchLines.js';
 import { assertFinite } from '../errors.js';
 import { focalLengthPxFrom35mm } from '../render/gratingCamera.js';
 
@@ -44,7 +45,7 @@ export const DISPERSION_PRIOR_DEFAULTS = {
   reddestNm: 700,
   maxFieldTan: 0.85,
   margin: 1.3,
-  limitNmPerPx: [0.05, 2] as readonly [number, number],
+  limitNmPerPx: MATCH_LINES_DEFAULTS.dispersionNmPerPx as readonly [number, number],
 } as const;
 
 /**

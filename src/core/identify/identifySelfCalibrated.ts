@@ -1,6 +1,6 @@
 import type { CalibrationPoint } from '../calibration/fitDispersion.js';
 import { fitScale, type ScaleFit } from './scaleFit.js';
-import { matchLines, type MatchLinesOptions } from '../calibration/matchLines.js';
+import { MATCH_LINES_DEFAULTS, matchLines, type MatchLinesOptions } from '../calibration/matchLines.js';
 import { dispersionAtNmPerPx, wavelengthAtNm } from '../calibration/model.js';
 import type { CalibrationScale } from '../calibration/uncertainty.js';
 import { invalid } from '../errors.js';
@@ -457,7 +457,7 @@ function calibrationLines(lamp: string, lines: readonly SpectralLine[], camera: 
 }
 
 /** |dλ/dx| a camera spectroscope can have (nm/px), as the line matcher assumes by default. */
-const PLAUSIBLE_DISPERSION_NM_PER_PX: readonly [number, number] = [0.05, 2];
+const PLAUSIBLE_DISPERSION_NM_PER_PX: readonly [number, number] = MATCH_LINES_DEFAULTS.dispersionNmPerPx;
 
 function plausibleScale(fit: ScaleFit, extent: readonly [number, number], range: readonly [number, number]): boolean {
   const ends = [extent[0], (extent[0] + extent[1]) / 2, extent[1]].map((x) => dispersionAtNmPerPx(fit.model, x));
