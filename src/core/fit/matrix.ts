@@ -3,40 +3,49 @@
 /** Inverse of a symmetric positive-definite matrix by Cholesky; returns null when it is singular. */
 export function invertSymmetric(a: number[][]): number[][] | null {
   const n = a.length;
-  const l = a.map(() => new Array<number>(n).fill(0));
-  for (let i = 0; i < n; i++) {
+  const flat = new Float64Array(n * n);
+  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) flat[i * n + j] = a[i][j];
+  const inv = new Float64Array(n * n);
+  if (!invertSymmetricFlat(flat, n, inv, new Float64Array(n * n), new Float64Array(n * n))) return null;
+  return Array.from({ length: n }, (_, i) => Array.from(inv.subarray(i * n, i * n + n)));
+}
+
+/**
+ * invertSymmetric on flat row-major k × k arrays, for callers that make many small fits: inv ← A⁻¹ by Cholesky
+ * (A = L Lᵀ, inv(A) = inv(L)ᵀ inv(L)), `l` and `li` scratch of at least k × k; false when A is not positive definite.
+ */
+export function invertSymmetricFlat(a: Float64Array, k: number, inv: Float64Array, l: Float64Array, li: Float64Array): boolean {
+  l.fill(0, 0, k * k);
+  li.fill(0, 0, k * k);
+  for (let i = 0; i < k; i++) {
     for (let j = 0; j <= i; j++) {
-      let sum = a[i][j];
-      for (let k = 0; k < j; k++) sum -= l[i][k] * l[j][k];
+      let sum = a[i * k + j];
+      for (let m = 0; m < j; m++) sum -= l[i * k + m] * l[j * k + m];
       if (i === j) {
-        if (!(sum > 1e-300 * Math.max(1, Math.abs(a[i][i])))) return null;
-        l[i][i] = Math.sqrt(sum);
+        if (!(sum > 1e-300 * Math.max(1, Math.abs(a[i * k + i])))) return false;
+        l[i * k + i] = Math.sqrt(sum);
       } else {
-        l[i][j] = sum / l[j][j];
+        l[i * k + j] = sum / l[j * k + j];
       }
     }
   }
-  // inv(L)
-  const li = a.map(() => new Array<number>(n).fill(0));
-  for (let i = 0; i < n; i++) {
-    li[i][i] = 1 / l[i][i];
+  for (let i = 0; i < k; i++) {
+    li[i * k + i] = 1 / l[i * k + i];
     for (let j = 0; j < i; j++) {
       let sum = 0;
-      for (let k = j; k < i; k++) sum -= l[i][k] * li[k][j];
-      li[i][j] = sum / l[i][i];
+      for (let m = j; m < i; m++) sum -= l[i * k + m] * li[m * k + j];
+      li[i * k + j] = sum / l[i * k + i];
     }
   }
-  // inv(A) = inv(L)^T inv(L)
-  const inv = a.map(() => new Array<number>(n).fill(0));
-  for (let i = 0; i < n; i++) {
+  for (let i = 0; i < k; i++) {
     for (let j = 0; j <= i; j++) {
       let sum = 0;
-      for (let k = i; k < n; k++) sum += li[k][i] * li[k][j];
-      inv[i][j] = sum;
-      inv[j][i] = sum;
+      for (let m = i; m < k; m++) sum += li[m * k + i] * li[m * k + j];
+      inv[i * k + j] = sum;
+      inv[j * k + i] = sum;
     }
   }
-  return inv;
+  return true;
 }
 
 /** Solves A x = b for a square A by Gaussian elimination with partial pivoting; null when singular. */

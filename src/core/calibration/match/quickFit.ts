@@ -1,4 +1,5 @@
 /** The many small polynomial fits of the line search, and residuals of pairs under any dispersion model. */
+import { invertSymmetricFlat } from '../../fit/index.js';
 import { informationCriterion } from '../informationCriterion.js';
 import { dispersionAtNmPerPx, wavelengthAtNm, type DispersionModel } from '../model.js';
 import { polynomialDispersionNmPerPx, polynomialWavelengthNm, type PolynomialModel } from '../polynomialModel.js';
@@ -15,8 +16,8 @@ export interface QuickFit {
  * there, and several times faster than QR for the search's many small fits. Two passes: weights 1/σx² first, then
  * 1/(σx² + (σref/|dλ/dx|)²) with each line's reference uncertainty converted by the first pass's dispersion. The
  * covariance is (AᵀWA)⁻¹ on the wavelength axis, scaled by the Birge ratio when it exceeds 1, as in fitPolynomial.
- * The normal matrix is inverted by Cholesky in flat scratch arrays (the arithmetic of invertSymmetric, whose result
- * it equals): a search makes thousands of these fits, and their garbage was a tenth of its time.
+ * The normal matrix is inverted by Cholesky in flat scratch arrays (invertSymmetricFlat): a search makes thousands
+ * of these fits, and their garbage was a tenth of its time.
  */
 export function quickPolynomial(ctx: Ctx, pairs: readonly Pair[], degree: number): QuickFit | null {
   const k = degree + 1;
@@ -56,7 +57,7 @@ export function quickPolynomial(ctx: Ctx, pairs: readonly Pair[], degree: number
         for (let b = 0; b < k; b++) ata[a * k + b] += w * pw[a + b];
       }
     }
-    if (!invertFlat(ata, k, inv)) return null;
+    if (!invertSymmetricFlat(ata, k, inv, SCRATCH.l, SCRATCH.li)) return null;
     for (let a = 0; a < k; a++) {
       let v = 0;
       for (let b = 0; b < k; b++) v += inv[a * k + b] * atb[b];
@@ -98,45 +99,6 @@ const SCRATCH = {
   sr: new Float64Array(64),
   res: new Float64Array(64),
 };
-
-/**
- * inv ← A⁻¹ for a symmetric positive-definite k × k matrix A (row-major, flat) by Cholesky, in the order of operations
- * of invertSymmetric (src/core/fit/matrix.ts); false when A is singular.
- */
-function invertFlat(a: Float64Array, k: number, inv: Float64Array): boolean {
-  const { l, li } = SCRATCH;
-  l.fill(0, 0, k * k);
-  li.fill(0, 0, k * k);
-  for (let i = 0; i < k; i++) {
-    for (let j = 0; j <= i; j++) {
-      let sum = a[i * k + j];
-      for (let m = 0; m < j; m++) sum -= l[i * k + m] * l[j * k + m];
-      if (i === j) {
-        if (!(sum > 1e-300 * Math.max(1, Math.abs(a[i * k + i])))) return false;
-        l[i * k + i] = Math.sqrt(sum);
-      } else {
-        l[i * k + j] = sum / l[j * k + j];
-      }
-    }
-  }
-  for (let i = 0; i < k; i++) {
-    li[i * k + i] = 1 / l[i * k + i];
-    for (let j = 0; j < i; j++) {
-      let sum = 0;
-      for (let m = j; m < i; m++) sum -= l[i * k + m] * li[m * k + j];
-      li[i * k + j] = sum / l[i * k + i];
-    }
-  }
-  for (let i = 0; i < k; i++) {
-    for (let j = 0; j <= i; j++) {
-      let sum = 0;
-      for (let m = i; m < k; m++) sum += li[m * k + i] * li[m * k + j];
-      inv[i * k + j] = sum;
-      inv[j * k + i] = sum;
-    }
-  }
-  return true;
-}
 
 function distinctPositions(pairs: readonly Pair[]): number {
   let count = 0;
