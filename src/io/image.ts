@@ -187,7 +187,11 @@ async function previewOf(header: Header, o: DecodeOneOptions, want: NonNullable<
       .toBuffer({ resolveWithObject: true });
     const channels = grey ? 1 : 3;
     if (info.width !== storedW / s || info.height !== storedH / s || info.channels !== channels) return null;
-    const upright = orientUpright(data, info.width, info.height, channels, orientation);
+    // A plain Uint8Array view, not sharp's Buffer: a Buffer made by native code gets its prototype set after creation,
+    // and V8 holds the map of that transition only weakly; when the photo's Buffer dies the map goes, and with it the
+    // optimized code of linearPreview that checks for it (--trace-deopt: "weak objects", every other photo).
+    const stored = new Uint8Array(data.buffer, data.byteOffset, data.byteLength);
+    const upright = orientUpright(stored, info.width, info.height, channels, orientation);
     return { image: linearPreview(upright.codes, upright.width, upright.height, channels, codeTable(8, o.srgb8)), scale: s };
   } catch {
     return null;
