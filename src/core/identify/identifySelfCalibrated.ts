@@ -8,6 +8,7 @@ import type { Peak, SpectralLine } from '../types.js';
 import { brightLineScales } from './brightLineScales.js';
 import { calibratePeaks } from './calibratePeaks.js';
 import { identifySpecies, IDENTIFY_DEFAULTS, NO_EMISSION_LINES, type Identification, type IdentifyOptions } from './identifySpecies.js';
+import { brightCoverage, fluxConsistency } from './scaleCredibility.js';
 
 /**
  * Lamps tried as the calibration when there is no profile: the fills of discharge tubes and sign tubing, alone and in
@@ -106,7 +107,14 @@ export interface ScaleCandidate {
   log10FalseMatch: number;
   /** ln posterior odds of the identification on this scale (identifySpecies' modelEvidence). */
   modelEvidence: number;
-  /** modelEvidence less the matcher's search (ln of its number of scale hypotheses): what the scales are ranked by. */
+  /** Bayes factor (nats) of the share of bright peaks the present species leave unexplained (scaleCredibility.ts). */
+  brightCoverageNats: number;
+  /** ln likelihood ratio (nats) of the lamp's lines' fluxes against their tabulated intensities (scaleCredibility.ts). */
+  fluxConsistencyNats: number;
+  /**
+   * modelEvidence less the search that found the scale (ln of its number of scale hypotheses), plus the two checks
+   * above: what the scales are ranked by.
+   */
   jointEvidence: number;
   probability: number;
   present: string[];
@@ -139,6 +147,8 @@ interface Evaluated {
   identification: Identification;
   covered: [number, number];
   penalty: number;
+  coverageNats: number;
+  fluxNats: number;
   joint: number;
   probability: number;
 }
@@ -167,8 +177,14 @@ const MIN_SCALE_LINES = 4;
  *    presence on the scale its lines made); on a scale that passes, the peaks are identified with the whole line list
  *    (identifySpecies), then the scale is refitted to every single, unblended line the identification placed with
  *    confidence ≥ 0.9 and the peaks identified again; the refit is kept when it explains the peaks better.
- * 3. Scales are ranked by the joint evidence J = modelEvidence − ln T, T the number of scale hypotheses the search
- *    could produce (the matcher's count, or the brightest-line pairs tried: the look-elsewhere cost of the search). Their posterior probabilities, with "none of these scales" at J = 2 (`noneEvidence`),
+ * 3. Scales are ranked by the joint evidence J = modelEvidence − ln T + C + F, T the number of scale hypotheses the
+ *    search could produce (the matcher's count, or the brightest-line pairs tried: the look-elsewhere cost of the
+ *    search), C and F what a self-made scale must show beyond the identification on it (scaleCredibility.ts): C the
+ *    Bayes factor of the share of bright peaks no present species explains (a Beta prior that expects few on the right
+ *    scale, against any share: a few Balmer lines placed among a xenon tube's thirty peaks leave most bright ones
+ *    over), F the likelihood ratio of the lamp's line fluxes against their tabulated intensities (a sodium lamp's D
+ *    line put on He 706.5 nm with helium's strongest line, 587.6 nm, on a peak 200 times fainter). Their posterior
+ *    probabilities, with "none of these scales" at J = 2 (`noneEvidence`),
  *    are p_c = e^{J_c} / (1 + Σ e^{J}); a species' score is its score on each scale weighted by p_c (Bayesian model
  *    averaging), so competing scales lower every confidence; presence is judged on the most probable scale.
  *
@@ -229,8 +245,12 @@ export function identifySelfCalibrated(peaks: readonly Peak[], options: SelfCali
     // The scale's evidence: the identification's, its own-line penalties given back (the search term counts the
     // fitting; which species the lamp is, is already paid for by each species' prior), less the search that found it.
     const given = best.identification.species.filter((x) => x.present).reduce((sum, x) => sum + (evidencePenalty[x.element] ?? 0), 0);
-    const joint = best.identification.modelEvidence + given - s.searchNats;
-    return [{ s, ...best, penalty, joint, probability: 0 }];
+    // What a self-made scale must show beyond the identification on it (scaleCredibility.ts): the present species
+    // explain most bright peaks, and the lamp's lines are about as bright as its lines should be.
+    const coverageNats = brightCoverage(best.identification, minSnr).nats;
+    const fluxNats = fluxConsistency(best.identification, options.lines, own, minSnr).nats;
+    const joint = best.identification.modelEvidence + given - s.searchNats + coverageNats + fluxNats;
+    return [{ s, ...best, penalty, coverageNats, fluxNats, joint, probability: 0 }];
   });
   evaluated.sort((a, b) => b.joint - a.joint || a.s.log10FalseMatch - b.s.log10FalseMatch);
   // Posterior probabilities of the scales, "none of them" at joint evidence NONE_EVIDENCE (log-sum-exp).
@@ -247,6 +267,8 @@ export function identifySelfCalibrated(peaks: readonly Peak[], options: SelfCali
     matcherAccepted: e.s.accepted,
     log10FalseMatch: e.s.log10FalseMatch,
     modelEvidence: e.identification.modelEvidence,
+    brightCoverageNats: e.coverageNats,
+    fluxConsistencyNats: e.fluxNats,
     jointEvidence: e.joint,
     probability: e.probability,
     present: e.identification.species.filter((x) => x.present).map((x) => x.element),
