@@ -181,6 +181,12 @@ const FLUX_CLASS_EDGES = [0.05, 0.005];
 const FULL_SCALE_FEATURES = 2;
 
 /**
+ * A spectrum of a species other than its main one (most matched features) predicts missing lines only from this many
+ * matched features on: one ion line among a neutral spectrum's lines is as likely a coincidence as a sign of the ion.
+ */
+const MINOR_SPECTRUM_FEATURES = 2;
+
+/**
  * Which species explain a calibrated peak table.
  *
  * Model: each peak is a line of one of the present species or "unexplained" (uniform over the covered range W). For
@@ -362,12 +368,19 @@ export function identifySpecies(peaks: readonly CalibratedPeak[], options: Ident
       const scales = new Map(
         [...ratios].map(([key, list]) => [key, { scale: lowerQuartile(list), count: list.length, above: list.length >= FULL_SCALE_FEATURES ? 0 : strongestSeen.get(key)! }]),
       );
+      // The species' main spectrum here is the one with the most matched features. A single feature of another
+      // spectrum (an ion line beside the neutral ones) may as well be a coincidence — a line the list lacks, another
+      // species, a scale slightly off at the band's end — whose peak the mixture could leave unexplained at little
+      // cost; it predicts no missing lines (see MINOR_SPECTRUM_FEATURES).
+      let mainCount = 0;
+      for (const v of scales.values()) mainCount = Math.max(mainCount, v.count);
       const m = o.missing;
       const [slo, shi] = sensitiveRangeNm;
       const edge = m.edgeFraction * (shi - slo);
       t.features.forEach((feature, fi) => {
         const known = scales.get(feature.spectrum);
         if (known === undefined || featureFlux.has(fi)) return;
+        if (known.count < MINOR_SPECTRUM_FEATURES && known.count < mainCount) return;
         const { scale, count, above } = known;
         if (feature.relative <= above) return;
         const taper = edge > 0 ? Math.min(1, (feature.wavelengthNm - slo) / edge, (shi - feature.wavelengthNm) / edge) : 1;

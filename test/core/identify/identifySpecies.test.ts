@@ -114,6 +114,23 @@ describe('identifySpecies: intensities only coarsely', () => {
     expect(r.species.find((s) => s.element === 'Ne')!.present).toBe(false);
   });
 
+  it('takes no missing lines from a lone line of a minor spectrum: a Kr I tube with a peak on Kr II 647.088 nm', () => {
+    // Kr II 647.088 nm (NIST ASD, the project list) beside Kr I 645.629 nm: a scale slightly off at the red end puts a
+    // Kr I peak there. One ion line does not establish Kr II, so its strong blue lines (461.9, 465.9 nm …) are not
+    // called missing; two ion lines do predict them.
+    const kr2 = projectLines.filter((l) => l.element === 'Kr' && l.spectrum === 'Kr II').map((l) => l.wavelengthNm);
+    for (let seed = 1; seed <= 10; seed++) {
+      const peaks = synthesize([['Kr', 1]], createRandom(seed * 7 + 3));
+      const brightest = Math.max(...peaks.map((p) => p.area));
+      const lone = identifySpecies([...peaks, peakAt(647.088, 0.1 * brightest)], { lines: projectLines, rangeNm: RANGE });
+      const kr = lone.species.find((s) => s.element === 'Kr')!;
+      expect(kr.present, `seed ${seed}`).toBe(true);
+      expect(kr.missingLinesNm.filter((w) => kr2.includes(w)), `seed ${seed}`).toEqual([]);
+      const two = identifySpecies([...peaks, peakAt(647.088, 0.1 * brightest), peakAt(676.442, 0.1 * brightest)], { lines: projectLines, rangeNm: RANGE });
+      expect(two.species.find((s) => s.element === 'Kr')!.missingLinesNm.filter((w) => kr2.includes(w)).length, `seed ${seed}`).toBeGreaterThan(0);
+    }
+  });
+
   it('is unmoved by a factor of 3 on every intensity (same present set with the areas perturbed)', () => {
     const rng = createRandom(21);
     let same = 0;
