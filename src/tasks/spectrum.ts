@@ -8,13 +8,14 @@ import { applyProfileToPeaks, type InstrumentProfile, positionsInProfileFrame } 
 import { wavelengthAtNm } from '../core/calibration/model.js';
 import { InputError } from '../core/errors.js';
 import { decimatePreview } from '../core/spectrum/band/decimate.js';
-import { type CoarseSearch, FIND_BAND_DEFAULTS, findBand, previewSuitsSearch, searchBandCoarse } from '../core/spectrum/findBand.js';
+import { bandRows, RowWindowMiss } from '../core/spectrum/band/rowWindow.js';
+import { type CoarseSearch, FIND_BAND_DEFAULTS, type FoundBand, findBand, previewSuitsSearch, searchBandCoarse } from '../core/spectrum/findBand.js';
 import { type ExtractSpectrumOptions, extractSpectrum } from '../core/spectrum/extract.js';
 import { findPeaksDetailed, peaksToWavelength } from '../core/spectrum/peaks/index.js';
 import { plotSpectrumSvg } from '../core/spectrum/plotSpectrum.js';
 import type { BandGeometry, Peak, Spectrum } from '../core/types.js';
 import { airToVacuumNm } from '../core/units/airVacuum.js';
-import { decodeImageStaged, type ExifSummary, type StagedDecode } from '../io/image.js';
+import { type DecodedImage, decodeImageStaged, type ExifSummary, type StagedDecode } from '../io/image.js';
 import { readSpectrumCsv } from '../io/readSpectrumCsv.js';
 import { sniffKind } from '../io/sniff.js';
 import { createSvgDocument } from '../io/svgDocument.js';
@@ -78,9 +79,18 @@ export interface AnalyseSpectrumOptions {
   calibration?: { profile: InstrumentProfile; file: string };
   /** With a calibration: report vacuum wavelengths (Ciddor 1996, standard air). @default false */
   vacuum?: boolean;
-  /** Called after each stage with its wall time (the benchmark's breakdown). */
-  onStage?: (stage: 'decode' | 'coarse' | 'band' | 'extract' | 'peaks', ms: number) => void;
+  /** Called after each stage with its wall time (the benchmark's breakdown; see SpectrumStage). */
+  onStage?: (stage: SpectrumStage, ms: number) => void;
 }
+
+/**
+ * The stages of a photo's analysis, in the order they end. A large upright JPEG goes preview (its 1/8-scale decode) →
+ * coarse (the band search on it) → rows (decoding only the band's rows) → band → extract → peaks; should the band
+ * need rows beyond those ('rows-missed': the refinement's time lost), the whole photo is decoded ('decode') and the
+ * band found again. Other large JPEGs decode the whole photo while the preview and coarse search run ('decode' is
+ * then the wall time from the start until the photo is ready, which they overlap); other photos have no preview.
+ */
+export type SpectrumStage = 'preview' | 'coarse' | 'rows' | 'rows-missed' | 'decode' | 'band' | 'extract' | 'peaks';
 
 /** The spectrum with its analysis, for the CSV and SVG outputs. */
 export interface SpectrumRun {
@@ -117,34 +127,42 @@ async function measureSpectrum(file: string, options: AnalyseSpectrumOptions): P
     linear16: options.transfer === undefined ? undefined : options.transfer === 'linear',
     // A manual band needs no search; else a preview where the coarse search can use one.
     wantPreview: options.band ? undefined : (w, h, scale) => previewSuitsSearch(w, h, scale),
+    rowsAfterPreview: !options.band,
   });
-  // A large JPEG's coarse band search runs on its 1/8-scale preview while the full decode goes on.
+  // A large JPEG's coarse band search runs on its 1/8-scale preview (while the full decode goes on, unless only the
+  // band's rows are to be decoded).
   const coarse = options.band ? null : await coarseFromPreview(staged, file, options.onStage);
-  const decoded = await staged.decoded; // a decode error wins over the coarse search's
-  clock('decode');
-  const warnings = [...decoded.warnings];
-  let band: BandGeometry;
-  let bandSource: 'found' | 'manual';
-  let uncertainties: Pick<BandSummary, 'angleUncertaintyDeg' | 'slantUncertaintyDeg'> = {};
-  let extraction: ExtractSpectrumOptions = {};
-  if (options.band) {
-    band = options.band;
-    bandSource = 'manual';
-    warnings.push(...checkBandInside(band, decoded.widthPx, decoded.heightPx));
-  } else {
-    const found = namingFile(file, () => {
-      if (coarse && 'error' in coarse) throw coarse.error;
-      return findBand(decoded.image, { source: file, coarse: coarse?.search });
-    });
-    band = found.band;
-    bandSource = 'found';
-    extraction = found.extraction;
-    uncertainties = { angleUncertaintyDeg: found.diagnostics.angleUncertaintyDeg, slantUncertaintyDeg: found.diagnostics.slantUncertaintyDeg };
-    warnings.push(...found.warnings);
+  let decoded: DecodedImage | null = null;
+  let measured: MeasuredBand | null = null;
+  if (coarse && 'search' in coarse && staged.rows) {
+    // Only the rows the band and its margins cover; should the band need more of the photo, the whole of it.
+    const search = coarse.search;
+    const rows = bandRows(search.band, search.coarse.memberEnds, search.heightPx);
+    clock.restart();
+    decoded = await staged.rows(rows.fromPx, rows.toPx);
+    clock('rows');
+    try {
+      measured = measureBand(decoded, file, options, coarse);
+    } catch (err) {
+      if (!(err instanceof RowWindowMiss)) throw err;
+      clock('rows-missed');
+    }
   }
-  clock('band');
-  const extracted = namingFile(file, () => extractSpectrum(decoded.image, band, extraction));
-  clock('extract');
+  if (measured === null) {
+    decoded = await staged.decoded; // a decode error wins over the coarse search's
+    clock('decode');
+    measured = measureBand(decoded, file, options, coarse);
+  }
+  options.onStage?.('band', measured.bandMs);
+  options.onStage?.('extract', measured.extractMs);
+  clock.restart();
+  decoded = decoded!;
+  const { found, band, extracted } = measured;
+  const warnings = [...decoded.warnings, ...measured.bandWarnings];
+  const bandSource: 'found' | 'manual' = found === null ? 'manual' : 'found';
+  const uncertainties: Pick<BandSummary, 'angleUncertaintyDeg' | 'slantUncertaintyDeg'> = found
+    ? { angleUncertaintyDeg: found.diagnostics.angleUncertaintyDeg, slantUncertaintyDeg: found.diagnostics.slantUncertaintyDeg }
+    : {};
   const spectrum = extracted.spectrum;
   warnings.push(...extracted.warnings);
   const search = namingFile(file, () => findPeaksDetailed(spectrum));
@@ -233,13 +251,63 @@ async function analyseCsv(file: string): Promise<SpectrumRun> {
   };
 }
 
-function stageClock(onStage: AnalyseSpectrumOptions['onStage']): (stage: 'decode' | 'band' | 'extract' | 'peaks') => void {
+interface MeasuredBand {
+  /** The band found; null for a manual band. */
+  found: FoundBand | null;
+  band: BandGeometry;
+  /** The band search's warnings, or the manual band's. */
+  bandWarnings: string[];
+  extracted: ReturnType<typeof extractSpectrum>;
+  bandMs: number;
+  extractMs: number;
+}
+
+/**
+ * The band (found, or the manual one) and its extraction from a decoded photo or a row window of it (RowWindowMiss
+ * when the band needs rows beyond the window), with the wall time of each.
+ */
+function measureBand(
+  decoded: DecodedImage,
+  file: string,
+  options: AnalyseSpectrumOptions,
+  coarse: { search: CoarseSearch } | { error: unknown } | null,
+): MeasuredBand {
+  const t0 = performance.now();
+  let found: FoundBand | null = null;
+  let band: BandGeometry;
+  let bandWarnings: string[];
+  let extraction: ExtractSpectrumOptions = {};
+  if (options.band) {
+    band = options.band;
+    bandWarnings = checkBandInside(band, decoded.widthPx, decoded.heightPx);
+  } else {
+    found = namingFile(file, () => {
+      if (coarse && 'error' in coarse) throw coarse.error;
+      return findBand(decoded.image, { source: file, coarse: coarse?.search });
+    });
+    band = found.band;
+    bandWarnings = found.warnings;
+    extraction = found.extraction;
+  }
+  const t1 = performance.now();
+  const extracted = namingFile(file, () => extractSpectrum(decoded.image, band, extraction));
+  return { found, band, bandWarnings, extracted, bandMs: t1 - t0, extractMs: performance.now() - t1 };
+}
+
+interface StageClock {
+  (stage: SpectrumStage): void;
+  /** The next stage's time starts now (the stages before it were reported by others). */
+  restart(): void;
+}
+
+function stageClock(onStage: AnalyseSpectrumOptions['onStage']): StageClock {
   let t = performance.now();
-  return (stage) => {
+  const clock = (stage: SpectrumStage): void => {
     const now = performance.now();
     onStage?.(stage, now - t);
     t = now;
   };
+  return Object.assign(clock, { restart: () => void (t = performance.now()) });
 }
 
 /**
@@ -252,9 +320,11 @@ async function coarseFromPreview(
   file: string,
   onStage: AnalyseSpectrumOptions['onStage'],
 ): Promise<{ search: CoarseSearch } | { error: unknown } | null> {
+  const start = performance.now();
   const preview = await staged.preview;
   if (!preview) return null;
   const t0 = performance.now();
+  onStage?.('preview', t0 - start);
   try {
     const { width, height } = { width: preview.image.width * preview.scale, height: preview.image.height * preview.scale };
     const d = FIND_BAND_DEFAULTS;

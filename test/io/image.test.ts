@@ -413,5 +413,45 @@ describe('decodeImageStaged(input, options) — the full decode with a 1/8-scale
     const staged = await decodeImageStaged(f, { wantPreview: always });
     expect(await staged.preview).toBeNull();
     await expect(staged.decoded).rejects.toThrow(`${f}: the JPEG data is damaged or cut short`);
+    // Asked for rows instead, the same: the preview reads the whole file, so the caller goes the whole way.
+    const byRows = await decodeImageStaged(f, { wantPreview: always, rowsAfterPreview: true });
+    expect(await byRows.preview).toBeNull();
+    await expect(byRows.decoded).rejects.toThrow(`${f}: the JPEG data is damaged or cut short`);
+  });
+
+  it('rowsAfterPreview: rows(from, to) are the full decode’s rows code for code, in a photo-sized row window whose data cannot be read', async () => {
+    const w = 320;
+    const h = 240;
+    const jpg = await sharp(smooth(w, h), { raw: { width: w, height: h, channels: 3 } }).jpeg({ quality: 90 }).withMetadata({ orientation: 1 }).toBuffer();
+    const whole = (await decodeImage(jpg)).image.codes!;
+    const staged = await decodeImageStaged(jpg, { wantPreview: always, rowsAfterPreview: true });
+    expect(staged.rows).toBeTypeOf('function');
+    expect((await staged.preview)!.scale).toBe(8);
+    // Windows starting on and off the 8- and 16-row MCU boundaries, and reaching the last row (4:2:0 chroma upsampling
+    // reads the neighbouring rows: the crop is taken after it, so the codes must not change).
+    for (const [from, to] of [[0, 40], [13, 101], [16, 32], [97, 240], [238, 240]]) {
+      const d = await staged.rows!(from, to);
+      expect([d.widthPx, d.heightPx, d.image.width, d.image.height, d.bitDepth, d.format]).toEqual([w, h, w, h, 8, 'jpeg']);
+      expect((d.image as { rowWindow?: unknown }).rowWindow).toEqual({ firstRowPx: from, rowCount: to - from });
+      expect(Buffer.from(d.image.codes!).equals(Buffer.from(whole.subarray(from * w * 3, to * w * 3))), `rows ${from}–${to}`).toBe(true);
+      expect(() => d.image.data).toThrow(/only rows .* were decoded/);
+    }
+    await expect(staged.rows!(-1, 20)).rejects.toThrow(/rows/);
+    await expect(staged.rows!(10, 241)).rejects.toThrow(/rows/);
+    // The whole photo is still there when asked for (decoded on first read).
+    expect(Buffer.from((await staged.decoded).image.codes!).equals(Buffer.from(whole))).toBe(true);
+  });
+
+  it('rowsAfterPreview offers no rows without a preview, nor for a photo stored turned (EXIF orientation 6), whose rows are not stored rows', async () => {
+    const px = smooth(320, 240);
+    const jpg = await sharp(px, { raw: { width: 320, height: 240, channels: 3 } }).jpeg().toBuffer();
+    expect((await decodeImageStaged(jpg, { rowsAfterPreview: true })).rows).toBeUndefined();
+    const png = await sharp(px, { raw: { width: 320, height: 240, channels: 3 } }).png().toBuffer();
+    expect((await decodeImageStaged(png, { wantPreview: always, rowsAfterPreview: true })).rows).toBeUndefined();
+    const turned = await sharp(px, { raw: { width: 320, height: 240, channels: 3 } }).jpeg().withMetadata({ orientation: 6 }).toBuffer();
+    const staged = await decodeImageStaged(turned, { wantPreview: always, rowsAfterPreview: true });
+    expect(staged.rows).toBeUndefined();
+    expect((await staged.preview)!.image.width).toBe(30);
+    expect((await staged.decoded).widthPx).toBe(240);
   });
 });

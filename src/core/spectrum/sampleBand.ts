@@ -10,6 +10,7 @@ import { assertFinite, invalid } from '../errors.js';
 import type { BandGeometry, LinearImage } from '../types.js';
 import { bandFrame } from './band/frame.js';
 import { type PixelAccess, pixelAccess } from './band/pixels.js';
+import { RowWindowMiss } from './band/rowWindow.js';
 
 export interface SampleBandOptions {
   /** Spacing of the samples along the band (px). @default 1 */
@@ -239,9 +240,10 @@ function sampleLinear(px: PixelAccess, g: Grid, out: SampledBand, combine: boole
 }
 
 function sampleCodes(px: PixelAccess, g: Grid, out: SampledBand, combine: boolean, flagSaturated: boolean): number {
-  const { width: W, height: H, channels: C, clipCode: clip } = px;
+  const { width: W, height: H, channels: C, clipCode: clip, firstRow, endRow, base } = px;
   const codes = px.values as Uint8Array | Uint16Array;
   const lut = px.codeToLinear as Float32Array;
+  const windowed = firstRow > 0 || endRow < H;
   const { columns, rows, planes, valid, saturated, offsetPx } = out;
   const rowStep = rows > 1 ? offsetPx[1] - offsetPx[0] : 0;
   const sdx = g.rowDx * rowStep;
@@ -260,19 +262,22 @@ function sampleCodes(px: PixelAccess, g: Grid, out: SampledBand, combine: boolea
     const x = g.x0 + i * g.colDx + qFirst * g.rowDx;
     const y = g.y0 + i * g.colDy + qFirst * g.rowDy;
     const k = i * rows;
-    // The samples of a column lie on a straight line: when both ends fall inside [0, W − 1) × [0, H − 1) every sample
-    // does, and the bounds tests and clamps of the general loop can go (they would not change any value there).
+    // The samples of a column lie on a straight line: when both ends fall inside [0, W − 1) × [0, H − 1) (inside the
+    // decoded rows of a row window) every sample does, and the bounds tests and clamps of the general loop can go (they
+    // would not change any value there).
     const xe = x + last * sdx;
     const ye = y + last * sdy;
     // (A margin of 1e-3 px keeps the running sums' rounding from carrying a sample across an edge.)
     const lo = 1e-3;
     const xHi = W - 1 - 1e-3;
-    const yHi = H - 1 - 1e-3;
-    const interior = x >= lo && xe >= lo && y >= lo && ye >= lo && x < xHi && xe < xHi && y < yHi && ye < yHi;
+    const yLo = firstRow + 1e-3;
+    const yHi = endRow - 1 - 1e-3;
+    const interior = x >= lo && xe >= lo && y >= yLo && ye >= yLo && x < xHi && xe < xHi && y < yHi && ye < yHi;
     if (interior && oneBit && C === 3) {
-      if (combine) interiorColumn3Combined(codes, lut, W, clipBit, flagSaturated, x, y, sdx, sdy, rows, k, p0, valid, saturated);
-      else interiorColumn3(codes, lut, W, clipBit, x, y, sdx, sdy, rows, k, p0, p1, p2, valid, saturated);
+      if (combine) interiorColumn3Combined(codes, lut, W, base, clipBit, flagSaturated, x, y, sdx, sdy, rows, k, p0, valid, saturated);
+      else interiorColumn3(codes, lut, W, base, clipBit, x, y, sdx, sdy, rows, k, p0, p1, p2, valid, saturated);
     } else {
+      if (windowed) checkColumnRows(px, y, ye);
       outside += generalColumnCodes(px, codes, lut, x, y, sdx, sdy, rows, k, combine, p0, p1, p2, valid, saturated);
     }
   }
@@ -287,6 +292,7 @@ function interiorColumn3(
   codes: Uint8Array | Uint16Array,
   lut: Float32Array,
   W: number,
+  base: number,
   clipBit: number,
   x: number,
   y: number,
@@ -312,7 +318,7 @@ function interiorColumn3(
     const w01 = fx * (1 - fy);
     const w10 = (1 - fx) * fy;
     const w11 = fx * fy;
-    const a = (yi * W + xi) * 3;
+    const a = (yi * W + xi) * 3 - base;
     const b = a + rowStride;
     valid[k] = 1;
     const r00 = codes[a], g00 = codes[a + 1], b00 = codes[a + 2];
@@ -331,6 +337,7 @@ function interiorColumn3Combined(
   codes: Uint8Array | Uint16Array,
   lut: Float32Array,
   W: number,
+  base: number,
   clipBit: number,
   flag: boolean,
   x: number,
@@ -355,7 +362,7 @@ function interiorColumn3Combined(
     const w01 = fx * (1 - fy);
     const w10 = (1 - fx) * fy;
     const w11 = fx * fy;
-    const a = (yi * W + xi) * 3;
+    const a = (yi * W + xi) * 3 - base;
     const b = a + rowStride;
     valid[k] = 1;
     const r00 = codes[a], g00 = codes[a + 1], b00 = codes[a + 2];
@@ -402,6 +409,19 @@ function clippedFlag(
   return ((t00 | t01 | t10 | t11) & clipBit) !== 0 ? 1 : 0;
 }
 
+/**
+ * Throws RowWindowMiss when the samples of a column from row coordinate y to ye could read a pixel of the photo
+ * outside the decoded rows (a conservative test: the rows the bilinear weights of that span reach, kept inside the
+ * photo as the general loop's clamps keep them).
+ */
+function checkColumnRows(px: PixelAccess, y: number, ye: number): void {
+  const H = px.height;
+  const top = Math.min(H - 2, Math.max(0, Math.floor(Math.min(y, ye) - 1e-6)));
+  const bottom = Math.min(H - 1, Math.max(1, Math.floor(Math.max(y, ye) + 1e-6) + 1));
+  if (top < px.firstRow) throw new RowWindowMiss({ firstRowPx: px.firstRow, rowCount: px.endRow - px.firstRow }, top);
+  if (bottom >= px.endRow) throw new RowWindowMiss({ firstRowPx: px.firstRow, rowCount: px.endRow - px.firstRow }, bottom);
+}
+
 /** One column of the general loop over codes (any channel count, samples outside the image, edges); returns the outside count. */
 function generalColumnCodes(
   px: PixelAccess,
@@ -420,7 +440,7 @@ function generalColumnCodes(
   valid: Uint8Array,
   saturated: Uint8Array,
 ): number {
-  const { width: W, height: H, channels: C, clipCode: clip } = px;
+  const { width: W, height: H, channels: C, clipCode: clip, base } = px;
   const rowStride = W * C;
   const third = 1 / 3;
   let outside = 0;
@@ -445,7 +465,7 @@ function generalColumnCodes(
     const w01 = fx * (1 - fy);
     const w10 = (1 - fx) * fy;
     const w11 = fx * fy;
-    const a = (yi * W + xi) * C;
+    const a = (yi * W + xi) * C - base;
     const b = a + rowStride;
     valid[k] = 1;
     if (C === 1) {

@@ -1,7 +1,7 @@
 /**
  * The coarse band search on a decoder's 1/8-scale preview (io decodeImageStaged + decimatePreview + searchBandCoarse),
- * which `glowprint spectrum` runs on large JPEGs while the full decode goes on: the band it leads to must be the one
- * the search on the photo itself finds, and as right against the renderer's truth.
+ * which `glowprint spectrum` runs on large JPEGs before it decodes only the band's rows: the band it leads to must be
+ * the one the search on the photo itself finds, and as right against the renderer's truth.
  */
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -103,16 +103,22 @@ describe('findBand(image, { coarse: searchBandCoarse(decimatePreview(preview)) }
       const errors = lineErrors(image, a, viaPreview.extraction, truth.band, truth.lines);
       expect(errors.length).toBeGreaterThanOrEqual(5);
       expect(median(errors)).toBeLessThanOrEqual(0.1);
-      // The spectrum task takes this path for the file (its stage 'coarse' runs on the preview) and gives this band.
+      // The spectrum task takes this path for the file (its stage 'coarse' runs on the preview, then only the band's
+      // rows are decoded) and gives this band and this spectrum, to the bit.
       const dir = mkdtempSync(path.join(tmpdir(), 'glowprint-preview-'));
       try {
         const file = path.join(dir, 'large.jpg');
         writeFileSync(file, jpeg);
         const stages: string[] = [];
         const run = await analyseSpectrumInput(file, { onStage: (stage) => void stages.push(stage) });
-        expect(stages).toEqual(['coarse', 'decode', 'band', 'extract', 'peaks']);
+        expect(stages).toEqual(['preview', 'coarse', 'rows', 'band', 'extract', 'peaks']);
         const t = run.analysis.band!;
         expect([t.angleDeg, t.slantDeg, t.center.x, t.center.y, t.lengthPx, t.heightPx]).toEqual([a.angleDeg, a.slantDeg, a.center.x, a.center.y, a.lengthPx, a.heightPx]);
+        expect(Array.from(run.spectrum.intensity)).toEqual(Array.from(extractSpectrum(image, a, viaPreview.extraction).spectrum.intensity));
+        // A manual band needs no search: no preview, the whole photo.
+        stages.length = 0;
+        await analyseSpectrumInput(file, { band: a, onStage: (stage) => void stages.push(stage) });
+        expect(stages).toEqual(['decode', 'band', 'extract', 'peaks']);
       } finally {
         rmSync(dir, { recursive: true, force: true });
       }

@@ -9,6 +9,7 @@
 import { invalid } from '../../errors.js';
 import type { LinearImage } from '../../types.js';
 import { type PixelAccess, pixelAccess } from './pixels.js';
+import { RowWindowMiss, rowWindowOf } from './rowWindow.js';
 
 export interface Decimated {
   width: number;
@@ -21,6 +22,11 @@ export interface Decimated {
 }
 
 export function decimate(image: LinearImage, factor: number, saturationLevel: number): Decimated {
+  // Every row is read: a photo of which only some rows were decoded is not enough.
+  const window = rowWindowOf(image);
+  if (window !== undefined && (window.firstRowPx > 0 || window.rowCount < image.height)) {
+    throw new RowWindowMiss(window, window.firstRowPx > 0 ? 0 : image.height - 1);
+  }
   const px = pixelAccess(image, saturationLevel);
   const f = Math.max(1, Math.floor(factor));
   const stride = f >= 6 ? 3 : f >= 4 ? 2 : 1;
@@ -29,6 +35,13 @@ export function decimate(image: LinearImage, factor: number, saturationLevel: nu
   const C = px.channels;
   const planes = Array.from({ length: C }, () => new Float32Array(w * h));
   const clipped = new Float32Array(w * h);
+  if (f === 1 && C === 3 && px.codeToLinear === null) {
+    // Blocks of one pixel (a decoder's preview, decimatePreview): the row loop's sums and counts of one term each, and
+    // no division (by 1) after them — the same values, without the per-block loop overhead (8 ms of a 500 × 375
+    // preview's 9 ms, measured).
+    copyLinear3(px, planes, clipped);
+    return { width: w, height: h, factor: f, planes, clipped };
+  }
   // Sampled columns are x = 0, stride, 2·stride, …; block X holds those in [f·X, f·X + f). Its first sampled column
   // and its count are fixed, so the row loops sum block by block in registers and the counts are computed, not summed.
   const firstX = new Int32Array(w + 1);
@@ -111,6 +124,24 @@ function rowCodes3(
     g[k] = sg;
     b[k] = sb;
     clipped[k] += nc;
+  }
+}
+
+/** decimate by 1 of an RGB photo in linear Float32 values: rowLinear3's terms for blocks of one pixel. */
+function copyLinear3(px: PixelAccess, planes: Float32Array[], clipped: Float32Array): void {
+  const data = px.values as Float32Array;
+  const flags = px.saturatedFlags;
+  const level = px.saturationLevel;
+  const [r, g, b] = planes;
+  const n = px.width * px.height;
+  for (let p = 0, a = 0; p < n; p++, a += 3) {
+    const vr = data[a];
+    const vg = data[a + 1];
+    const vb = data[a + 2];
+    r[p] = Math.fround(0 + vr);
+    g[p] = Math.fround(0 + vg);
+    b[p] = Math.fround(0 + vb);
+    clipped[p] = flags !== null ? (flags[p] !== 0 ? 1 : 0) : vr >= level || vg >= level || vb >= level ? 1 : 0;
   }
 }
 

@@ -5,6 +5,7 @@
  */
 import { invalid } from '../../errors.js';
 import type { LinearImage } from '../../types.js';
+import { rowWindowOf } from './rowWindow.js';
 
 export interface PixelAccess {
   width: number;
@@ -20,6 +21,13 @@ export interface PixelAccess {
   saturatedFlags: Uint8Array | null;
   /** With linear values and no flags: a value at or above this counts as clipped. */
   saturationLevel: number;
+  /**
+   * The rows held in `values`: [firstRow, endRow), the whole photo (0, height) unless it is a row window
+   * (band/rowWindow.ts); pixel (x, y) is then at index (y·width + x)·channels − base, base = firstRow·width·channels.
+   */
+  firstRow: number;
+  endRow: number;
+  base: number;
 }
 
 export function pixelAccess(image: LinearImage, saturationLevel: number): PixelAccess {
@@ -28,7 +36,19 @@ export function pixelAccess(image: LinearImage, saturationLevel: number): PixelA
     throw invalid('image', 'at least 2 × 2 pixels', `${width} × ${height}`);
   }
   if (channels !== 1 && channels !== 3) throw invalid('image.channels', '1 or 3', channels);
-  const n = width * height * channels;
+  const window = rowWindowOf(image);
+  if (window !== undefined) {
+    const { firstRowPx, rowCount } = window;
+    if (!Number.isInteger(firstRowPx) || !Number.isInteger(rowCount) || firstRowPx < 0 || rowCount < 2 || firstRowPx + rowCount > height) {
+      throw invalid('image.rowWindow', `whole rows inside the ${height} rows of the image`, window);
+    }
+    if (image.codes === undefined || image.codeToLinear === undefined || image.codes.length < rowCount * width * channels) {
+      throw invalid('image.codes', `${rowCount * width * channels} codes for the row window`, image.codes);
+    }
+  }
+  const firstRow = window?.firstRowPx ?? 0;
+  const endRow = window ? firstRow + window.rowCount : height;
+  const n = width * (endRow - firstRow) * channels;
   if (image.codes !== undefined && image.codeToLinear !== undefined) {
     if (image.codes.length < n) throw invalid('image.codes', `${n} values`, image.codes);
     return {
@@ -40,6 +60,9 @@ export function pixelAccess(image: LinearImage, saturationLevel: number): PixelA
       clipCode: image.codeToLinear.length - 1,
       saturatedFlags: null,
       saturationLevel,
+      firstRow,
+      endRow,
+      base: firstRow * width * channels,
     };
   }
   const data = image.data;
@@ -54,5 +77,8 @@ export function pixelAccess(image: LinearImage, saturationLevel: number): PixelA
     clipCode: -1,
     saturatedFlags: flags && flags.length >= width * height ? flags : null,
     saturationLevel,
+    firstRow: 0,
+    endRow: height,
+    base: 0,
   };
 }
