@@ -80,8 +80,9 @@ export const spectrumSection: BenchSection = {
         kind: 'max',
         detail:
           `median of ${RUNS} after ${WARMUP} warm-up runs: pipeline ${pipelineMedian.toFixed(0)} ms (${peaks} peaks), sharp(file).raw().toBuffer() ` +
-          `${floorMedian.toFixed(0)} ms; stage medians ${stages} (coarse: the band search on the JPEG's 1/8 preview, run ` +
-          `while the full decode goes on, so it overlaps decode, which is the wall time until the full photo is ready). ` +
+          `${floorMedian.toFixed(0)} ms; stage medians ${stages} (preview: the JPEG's 1/8-scale decode; coarse: the band ` +
+          `search on it; rows: the decode of the band's rows only; rows-missed and decode appear when the band needed ` +
+          `more of the photo and the whole of it was decoded). ` +
           `First run in a fresh process (one command-line run, ` +
           `before the JIT has compiled anything): pipeline ${pipeMem.elapsedMs.toFixed(0)} ms, decode ` +
           `${floorMem.elapsedMs.toFixed(0)} ms = ${(pipeMem.elapsedMs / floorMem.elapsedMs).toFixed(1)}×. CPU time (all threads) ` +
