@@ -409,6 +409,7 @@ describe('findPeaks(spectrum) positions, variance and edge cases', () => {
       blendSeparationFwhm: 1,
       blendCentreCorrelation: 0.8,
       blendWidthRatio: 1.25,
+      minWidthRatio: 0.6,
       minPositionUncertaintyPx: 0.01,
       centreSystematicFwhm: 0.005,
       maxGroupSize: 6,
