@@ -185,6 +185,7 @@ export async function decodeImageStaged(input: string | Buffer, options: StagedD
   };
   let decoded = byRows ? undefined : whole();
   const preview = planned ? previewOf(header, o) : Promise.resolve(null);
+  void exifOf(header, o); // parsed while the decoder works
   return {
     preview,
     get decoded() {
@@ -292,6 +293,8 @@ interface Header {
   format: string;
   bitDepth: 8 | 16;
   grey: boolean;
+  /** The EXIF summary, read once (exifOf). */
+  exif?: Promise<{ exif: ExifSummary; warning?: string }>;
 }
 
 /** Reads the file and its header and refuses what cannot be decoded, before a single pixel is decoded. */
@@ -417,15 +420,21 @@ function codesOf(
 
 /** Everything of a DecodedImage but its pixels: the EXIF summary (a warning when it cannot be read) and the header's facts. */
 async function describeDecode(header: Header, o: DecodeOneOptions, widthPx: number, heightPx: number): Promise<Omit<DecodedImage, 'image'>> {
-  const { bytes, meta, format, bitDepth } = header;
-  const warnings: string[] = [];
-  let exif: ExifSummary = {};
-  try {
-    exif = await readExifSummary(format === 'tiff' && !meta.exif ? bytes : meta.exif);
-  } catch (err) {
-    warnings.push(`${o.source}: EXIF data could not be read (${(err as Error).message}); exposure and camera are unknown`);
-  }
-  return { exif, bitDepth, format, widthPx, heightPx, orientation: meta.orientation ?? 1, warnings };
+  const { meta, format, bitDepth } = header;
+  const { exif, warning } = await exifOf(header, o);
+  return { exif, bitDepth, format, widthPx, heightPx, orientation: meta.orientation ?? 1, warnings: warning ? [warning] : [] };
+}
+
+/**
+ * The header's EXIF summary, parsed once: decodeImageStaged starts it at once, so that the parse (a few ms on the main
+ * thread) runs while the decoder works on its thread pool.
+ */
+function exifOf(header: Header, o: DecodeOneOptions): Promise<{ exif: ExifSummary; warning?: string }> {
+  const { bytes, meta, format } = header;
+  return (header.exif ??= readExifSummary(format === 'tiff' && !meta.exif ? bytes : meta.exif).then(
+    (exif) => ({ exif }),
+    (err: unknown) => ({ exif: {}, warning: `${o.source}: EXIF data could not be read (${(err as Error).message}); exposure and camera are unknown` }),
+  ));
 }
 
 export interface CodedImageParts {

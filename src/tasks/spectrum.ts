@@ -9,6 +9,7 @@ import { wavelengthAtNm } from '../core/calibration/model.js';
 import { InputError } from '../core/errors.js';
 import { decimatePreview } from '../core/spectrum/band/decimate.js';
 import { bandRows, RowWindowMiss } from '../core/spectrum/band/rowWindow.js';
+import type { CoarseBand } from '../core/spectrum/band/coarse.js';
 import { type CoarseSearch, FIND_BAND_DEFAULTS, type FoundBand, findBand, previewSuitsSearch, searchBandCoarse } from '../core/spectrum/findBand.js';
 import { type ExtractSpectrumOptions, extractSpectrum } from '../core/spectrum/extract.js';
 import { findPeaksDetailed, peaksToWavelength } from '../core/spectrum/peaks/index.js';
@@ -85,7 +86,8 @@ export interface AnalyseSpectrumOptions {
 
 /**
  * The stages of a photo's analysis, in the order they end. A large upright JPEG goes preview (its 1/8-scale decode) →
- * coarse (the band search on it) → rows (decoding only the band's rows) → band → extract → peaks; should the band
+ * coarse (the band search on it; the decode of the band's rows starts during its last part) → rows (the rest of that
+ * decode) → band → extract → peaks; should the band
  * need rows beyond those ('rows-missed': the refinement's time lost), the whole photo is decoded ('decode') and the
  * band found again. Other large JPEGs decode the whole photo while the preview and coarse search run ('decode' is
  * then the wall time from the start until the photo is ready, which they overlap); other photos have no preview.
@@ -134,12 +136,11 @@ async function measureSpectrum(file: string, options: AnalyseSpectrumOptions): P
   const coarse = options.band ? null : await coarseFromPreview(staged, file, options.onStage);
   let decoded: DecodedImage | null = null;
   let measured: MeasuredBand | null = null;
-  if (coarse && 'search' in coarse && staged.rows) {
-    // Only the rows the band and its margins cover; should the band need more of the photo, the whole of it.
-    const search = coarse.search;
-    const rows = bandRows(search.band, search.coarse.memberEnds, search.heightPx);
+  if (coarse && 'search' in coarse && coarse.rows) {
+    // Only the rows the band and its margins cover (their decode started during the coarse search); should the band
+    // need more of the photo, the whole of it.
     clock.restart();
-    decoded = await staged.rows(rows.fromPx, rows.toPx);
+    decoded = await coarse.rows;
     clock('rows');
     try {
       measured = measureBand(decoded, file, options, coarse);
@@ -319,17 +320,28 @@ async function coarseFromPreview(
   staged: StagedDecode,
   file: string,
   onStage: AnalyseSpectrumOptions['onStage'],
-): Promise<{ search: CoarseSearch } | { error: unknown } | null> {
+): Promise<{ search: CoarseSearch; rows?: Promise<DecodedImage> } | { error: unknown } | null> {
   const start = performance.now();
   const preview = await staged.preview;
   if (!preview) return null;
   const t0 = performance.now();
   onStage?.('preview', t0 - start);
+  let rows: Promise<DecodedImage> | undefined;
   try {
     const { width, height } = { width: preview.image.width * preview.scale, height: preview.image.height * preview.scale };
     const d = FIND_BAND_DEFAULTS;
     const dec = decimatePreview(preview.image, preview.scale, width, height, d.coarseMaxSidePx, d.saturationLevel);
-    return { search: searchBandCoarse(dec, width, height, { source: file }) };
+    // The band's rows are decoded while the coarse band is refined on the coarse image (bandRows' margins hold the
+    // refinement's few pixels of change: measured 3–15 px at the window's edges against margins of 2 H + 48 px).
+    const startRows = staged.rows;
+    const onComponents = startRows
+      ? (c: CoarseBand): void => {
+          const r = bandRows(c.band, c.memberEnds, height);
+          rows = startRows(r.fromPx, r.toPx);
+          rows.catch(() => undefined); // awaited after the search, if that succeeds
+        }
+      : undefined;
+    return { search: searchBandCoarse(dec, width, height, { source: file, onComponents }), rows };
   } catch (error) {
     return { error };
   } finally {

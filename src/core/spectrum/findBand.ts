@@ -126,8 +126,14 @@ export function previewSuitsSearch(widthPx: number, heightPx: number, scale: num
   return fromPreview >= own && fromPreview <= (4 / 3) * own;
 }
 
-/** The options of findBand that the coarse stage reads. */
-export type CoarseSearchOptions = Pick<FindBandOptions, 'source' | 'detectionSigma' | 'minSignal' | 'measureSlant'>;
+/** The options of findBand that the coarse stage reads, and a hook into it. */
+export type CoarseSearchOptions = Pick<FindBandOptions, 'source' | 'detectionSigma' | 'minSignal' | 'measureSlant'> & {
+  /**
+   * Called with the band of the coarse components (full-resolution px) before it is refined on the coarse image: a
+   * caller that decodes the band's rows can start that decode here and let it run during the refinement.
+   */
+  onComponents?: (coarse: CoarseBand) => void;
+};
 
 /** Runs the coarse stage on `dec`, a decimated copy of a `widthPx` × `heightPx` photo; see CoarseSearch. */
 export function searchBandCoarse(dec: Decimated, widthPx: number, heightPx: number, options: CoarseSearchOptions = {}): CoarseSearch {
@@ -144,6 +150,7 @@ export function searchBandCoarse(dec: Decimated, widthPx: number, heightPx: numb
   }
   const flat = flattenBackground(dec.planes, dec.width, dec.height);
   const coarse = coarseBand(dec, flat.residual, { detectionSigma, minSignal, source });
+  options.onComponents?.(coarse);
   const ambient = ambientFromSurfaces(flat.surfaces, dec.width, dec.height, f);
   let band = coarse.band;
   let slantSeen = false;
