@@ -8,7 +8,7 @@ import type { Peak, SpectralLine } from '../types.js';
 import { brightLineScales } from './brightLineScales.js';
 import { calibratePeaks } from './calibratePeaks.js';
 import { identifySpecies, IDENTIFY_DEFAULTS, NO_EMISSION_LINES, type Identification, type IdentifyOptions } from './identifySpecies.js';
-import { brightCoverage, fluxConsistency } from './scaleCredibility.js';
+import { brightCoverage, brightestExplained, fluxConsistency, MIN_BRIGHTEST_EXPLAINED } from './scaleCredibility.js';
 
 /**
  * Lamps tried as the calibration when there is no profile: the fills of discharge tubes and sign tubing, alone and in
@@ -137,6 +137,8 @@ interface Solution {
   log10FalseMatch: number;
   /** ln of the number of scale hypotheses the matcher's search could produce. */
   searchNats: number;
+  /** Made by the brightest-line search (brightLineScales.ts), not the spacing-ratio matcher. */
+  brightLines: boolean;
   wavelengths: Float64Array;
 }
 
@@ -248,7 +250,13 @@ export function identifySelfCalibrated(peaks: readonly Peak[], options: SelfCali
     // What a self-made scale must show beyond the identification on it (scaleCredibility.ts): the present species
     // explain most bright peaks, and the lamp's lines are about as bright as its lines should be.
     const coverageNats = brightCoverage(best.identification, minSnr).nats;
-    const fluxNats = fluxConsistency(best.identification, options.lines, own, minSnr).nats;
+    // The flux check is for scales built from few bright lines; a matcher solution's spacing ratios carry their own
+    // chance (its log10FalseMatch), and a line-rich lamp's table intensities are the least reliable part of it.
+    const fluxNats = s.brightLines ? fluxConsistency(best.identification, options.lines, own, minSnr).nats : 0;
+    // A brightest-line scale stands on the premise that the tube's brightest peaks are its lines: when the species
+    // the identification finds on it leave two of the four brightest unexplained, the premise failed and the scale is
+    // a chance fit (scaleCredibility.ts: brightestExplained).
+    if (s.brightLines && brightestExplained(best.identification, minSnr) < MIN_BRIGHTEST_EXPLAINED) return [];
     const joint = best.identification.modelEvidence + given - s.searchNats + coverageNats + fluxNats;
     return [{ s, ...best, penalty, coverageNats, fluxNats, joint, probability: 0 }];
   });
@@ -378,6 +386,7 @@ function candidateScales(
       accepted: match.accepted,
       log10FalseMatch: match.score.log10Chance + log10Trials,
       searchNats: Math.LN10 * Math.max(log10Trials, 0),
+      brightLines: false,
       wavelengths,
     };
     const same = solutions.find((x) => sameScale(x, wavelengths, fit.rmsNm));
@@ -417,6 +426,7 @@ function addBrightLineScales(
       accepted: false,
       log10FalseMatch: 0,
       searchNats: h.searchNats,
+      brightLines: true,
       wavelengths,
     });
   }

@@ -29,8 +29,13 @@ export interface ScaleCredibilityOptions {
    * scatter (a factor of 3) and the camera's colour response (another) in quadrature. @default √2 · ln 3
    */
   fluxScatterLn: number;
-  /** Chance that one line's flux is off whatever the scatter (self-absorbed resonance line, table error). @default 0.15 */
+  /** Chance that one line's flux is off beyond the scatter (self-absorbed resonance line, table error). @default 0.15 */
   fluxOutlierProbability: number;
+  /**
+   * σ of such an outlier about the common level, in units of `fluxScatterLn`: 2, a factor of about 20 — lines off by
+   * that much happen; a lamp's brightest line 10³ times above the level its other lines set does not. @default 2
+   */
+  fluxOutlierTail: number;
   /** Fewest lines of one spectrum for the flux check. @default 3 */
   minFluxLines: number;
 }
@@ -40,8 +45,12 @@ export const SCALE_CREDIBILITY_DEFAULTS: ScaleCredibilityOptions = {
   unexplainedBeta: 6,
   fluxScatterLn: Math.SQRT2 * Math.log(3),
   fluxOutlierProbability: 0.15,
+  fluxOutlierTail: 2,
   minFluxLines: 3,
 };
+
+/** Of the four brightest line-like peaks, the fewest a brightest-line scale's species must explain (see brightestExplained). */
+export const MIN_BRIGHTEST_EXPLAINED = 3;
 
 export interface BrightCoverage {
   /** ln Bayes factor (≤ 0 when most bright peaks are unexplained). */
@@ -75,6 +84,23 @@ export function brightCoverage(identification: IdentifiedPeaks, minSnr: number, 
   return { nats, bright: B, unexplained: u };
 }
 
+/**
+ * How many of the `count` brightest line-like peaks some present species explains. The brightest-line search
+ * (brightLineScales.ts) seeds its scales on the premise that a tube's brightest peaks are its gas's strongest lines; a
+ * scale on which the species found leave two of the four brightest unexplained contradicts the premise that made it —
+ * Balmer lines put on a mercury lamp's 404.7 and 435.8 nm lines with its 546.1 nm line, as bright as the one taken
+ * for Hα, left over. Over four seeded sets of 40 rendered tubes (160 photos) no right answer had fewer than 3 of 4
+ * explained on a brightest-line scale; the hydrogen scales that named mercury, krypton and xenon tubes had 2.
+ */
+export function brightestExplained(identification: IdentifiedPeaks, minSnr: number, count = 4): number {
+  const top = identification.peaks
+    .filter((p) => p.snr >= minSnr && p.area > 0)
+    .sort((a, b) => b.area - a.area)
+    .slice(0, count);
+  // Fewer line-like peaks than `count`: the missing ones count as explained (nothing bright is left over).
+  return count - top.filter((p) => !p.line).length;
+}
+
 export interface FluxConsistency {
   /** ln likelihood ratio of the lines' fluxes: "these are the species' lines" against "peaks at random". */
   nats: number;
@@ -84,15 +110,16 @@ export interface FluxConsistency {
 
 /**
  * Whether the peaks a species' lines were put on are as bright as its lines should be: what a scale built from few
- * lines may claim. For the peaks given to one spectrum of the species (first order, not clipped, not blended), r =
- * ln(area / tabulated intensity). On the right scale r scatters about a common level with σ = `fluxScatterLn`
- * (a heavy tail of weight `fluxOutlierProbability` for lines far off); for peaks the scale put there by chance, the
- * area is that of a random peak, so r scatters as ln area does over all line-like peaks together with ln intensity over
- * these lines, S² = Var(ln area) + Var(ln I) (at least σ²). The check is the ln likelihood ratio of the two normal
- * models, each at its own fitted level (the median, the mean): positive for lines that keep roughly their tabulated
- * order, negative when the species' strongest line sits on a faint peak beside a bright one. Spectra (I, II) are
- * compared separately; blended features use the summed intensity of their lines of that spectrum, a peak the peak finder
- * marked blended its whole area (at most about twice the line's), and clipped peaks (area a lower bound) are left out.
+ * lines may claim. For the peaks given to one spectrum of the species (first order, not clipped), r = ln(area /
+ * tabulated intensity). On the right scale r scatters about a common level with σ = `fluxScatterLn` (a wider tail,
+ * `fluxOutlierTail` σ, of weight `fluxOutlierProbability` for lines far off). For peaks a scale put there by chance,
+ * the area is that of a random peak: its ln area a draw from the photo's own line-like peaks (a kernel density estimate
+ * of their ln areas). The check is the ln likelihood ratio of the two, the first at its fitted level (the median, one
+ * nat for it): positive for lines that keep roughly their tabulated order, negative when the species' strongest line
+ * sits on a faint peak beside a bright one, or one line is a thousand times above the level its others set. Spectra
+ * (I, II) are compared separately; blended features use the summed intensity of their lines of that spectrum, a peak
+ * the peak finder marked blended its whole area (at most about twice the line's), and clipped peaks (area a lower
+ * bound) are left out.
  */
 export function fluxConsistency(
   identification: IdentifiedPeaks,
@@ -104,8 +131,8 @@ export function fluxConsistency(
   const o = { ...SCALE_CREDIBILITY_DEFAULTS, ...options };
   const lineLike = identification.peaks.filter((p) => p.snr >= minSnr && p.area > 0);
   if (lineLike.length < o.minFluxLines) return { nats: 0, lines: 0 };
-  const lnArea = lineLike.map((p) => Math.log(p.area));
-  const areaVar = variance(lnArea);
+  const lnArea = Float64Array.from(lineLike, (p) => Math.log(p.area));
+  const bandwidth = kdeBandwidth(lnArea);
   const intensityOf = new Map<string, number>();
   for (const l of lines) if (elements.includes(l.element)) intensityOf.set(lineKey(l.element, l.spectrum, l.wavelengthNm), l.intensity);
   let nats = 0;
@@ -126,13 +153,14 @@ export function fluxConsistency(
       if (list.length < o.minFluxLines) continue;
       const r = list.map((x) => Math.log(x.area) - Math.log(x.intensity));
       const s = o.fluxScatterLn;
-      const S = Math.sqrt(Math.max(areaVar + variance(list.map((x) => Math.log(x.intensity))), s * s));
+      const tail = o.fluxOutlierTail * s;
       const level = median(r);
-      const mean = r.reduce((a, b) => a + b, 0) / r.length;
-      for (const ri of r) {
-        const present = (1 - o.fluxOutlierProbability) * normalPdf(ri - level, s) + o.fluxOutlierProbability * normalPdf(ri - level, S);
-        nats += Math.log(present) - Math.log(normalPdf(ri - mean, S));
-      }
+      list.forEach((x, k) => {
+        const present = (1 - o.fluxOutlierProbability) * normalPdf(r[k] - level, s) + o.fluxOutlierProbability * normalPdf(r[k] - level, tail);
+        nats += Math.log(present) - Math.log(kdeDensity(lnArea, Math.log(x.area), bandwidth));
+      });
+      // The common level was fitted: one parameter, worth one nat (Akaike 1974).
+      nats -= 1;
       compared += list.length;
     }
   }
@@ -151,11 +179,30 @@ function normalPdf(x: number, sigma: number): number {
   return Math.exp(-0.5 * (x / sigma) ** 2) / (sigma * Math.sqrt(2 * Math.PI));
 }
 
-function variance(values: readonly number[]): number {
-  if (values.length < 2) return 0;
-  const m = values.reduce((a, b) => a + b, 0) / values.length;
-  return values.reduce((a, b) => a + (b - m) ** 2, 0) / (values.length - 1);
+/** Gaussian kernel density estimate of `samples` at x. */
+function kdeDensity(samples: Float64Array, x: number, h: number): number {
+  let sum = 0;
+  for (const v of samples) sum += normalPdf(x - v, h);
+  return sum / samples.length;
 }
+
+/**
+ * Silverman's rule of thumb, 0.9 · min(SD, IQR / 1.34) · n^(−1/5) (Silverman, *Density Estimation for Statistics and
+ * Data Analysis*, 1986, eq. 3.31), at least KDE_MIN_BANDWIDTH: peak areas of one photo cluster, and a spiky estimate
+ * would make any match to a cluster look improbable by chance.
+ */
+function kdeBandwidth(samples: Float64Array): number {
+  const n = samples.length;
+  const sorted = Float64Array.from(samples).sort();
+  const mean = sorted.reduce((a, b) => a + b, 0) / n;
+  const sd = Math.sqrt(sorted.reduce((a, b) => a + (b - mean) ** 2, 0) / Math.max(n - 1, 1));
+  const q = (f: number) => sorted[Math.min(n - 1, Math.max(0, Math.round(f * (n - 1))))];
+  const spread = Math.min(sd, (q(0.75) - q(0.25)) / 1.34) || sd;
+  return Math.max(KDE_MIN_BANDWIDTH, 0.9 * spread * n ** -0.2);
+}
+
+/** Least kernel width for ln(area) (nats: a factor of 1.65). */
+const KDE_MIN_BANDWIDTH = 0.5;
 
 function median(values: readonly number[]): number {
   const s = [...values].sort((a, b) => a - b);

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import type { IdentifiedPeak } from '../../../src/core/identify/identifySpecies.js';
-import { brightCoverage, fluxConsistency, SCALE_CREDIBILITY_DEFAULTS } from '../../../src/core/identify/scaleCredibility.js';
+import { brightCoverage, brightestExplained, fluxConsistency, SCALE_CREDIBILITY_DEFAULTS } from '../../../src/core/identify/scaleCredibility.js';
 import { createRandom } from '../../../src/core/random.js';
 import type { SpectralLine } from '../../../src/core/types.js';
 
@@ -55,6 +55,17 @@ describe('brightCoverage(identification, minSnr, options)', () => {
   });
 });
 
+describe('brightestExplained(identification, minSnr, count)', () => {
+  it('counts the explained among the four brightest line-like peaks, peaks that are not there as explained', () => {
+    const q = lineOf(LINES[0]);
+    const peaks = [peak(100, q), peak(90, null), peak(50, q, { snr: 2 }), peak(40, null), peak(30, q), peak(20, null)];
+    // Line-like by area: 100 (explained), 90, 40 (not), 30 (explained); the SNR-2 peak is left out.
+    expect(brightestExplained({ peaks }, 5)).toBe(2);
+    expect(brightestExplained({ peaks: [peak(10, q), peak(5, null)] }, 5)).toBe(3);
+    expect(brightestExplained({ peaks: [peak(10, q), peak(5, q), peak(4, q), peak(3, q), peak(2, null)] }, 5)).toBe(4);
+  });
+});
+
 describe('fluxConsistency(identification, lines, elements, minSnr, options)', () => {
   /** The species' six lines at their tabulated intensities × a factor of up to 3 either way, among 12 other peaks. */
   function tube(seed: number, swapStrongest: boolean): IdentifiedPeak[] {
@@ -80,6 +91,13 @@ describe('fluxConsistency(identification, lines, elements, minSnr, options)', ()
     }
     expect(consistent / seeds).toBeGreaterThanOrEqual(0.85);
     expect(swapped).toBe(seeds);
+  });
+
+  it('is negative when one line is a thousand times above the level its four other lines set (a sodium D line taken for one)', () => {
+    // Four lines at their tabulated intensities × 1e-4 (faint peaks), the fifth at its own × 1: beyond the outlier tail.
+    const peaks = LINES.slice(0, 5).map((l, k) => peak(l.intensity * (k === 2 ? 1 : 1e-4), lineOf(l)));
+    peaks.push(peak(0.02, null), peak(0.01, null));
+    expect(fluxConsistency({ peaks }, LINES, ['Q'], 5).nats).toBeLessThan(-1);
   });
 
   it('leaves out clipped peaks, other orders and other elements, and needs minFluxLines lines of one spectrum', () => {
