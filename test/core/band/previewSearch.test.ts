@@ -9,6 +9,7 @@ import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { renderSpectroscopePhoto } from '../../../src/core/render/index.js';
 import { decimatePreview } from '../../../src/core/spectrum/band/decimate.js';
+import { BAND_ROWS_DEFAULTS } from '../../../src/core/spectrum/band/rowWindow.js';
 import { bandPointPx } from '../../../src/core/spectrum/band/frame.js';
 import { extractSpectrum } from '../../../src/core/spectrum/extract.js';
 import { FIND_BAND_DEFAULTS, findBand, previewSuitsSearch, searchBandCoarse } from '../../../src/core/spectrum/findBand.js';
@@ -119,6 +120,20 @@ describe('findBand(image, { coarse: searchBandCoarse(decimatePreview(preview)) }
         stages.length = 0;
         await analyseSpectrumInput(file, { band: a, onStage: (stage) => void stages.push(stage) });
         expect(stages).toEqual(['decode', 'band', 'extract', 'peaks']);
+        // Rows too few for the band (bandRows with no margins: the centre line's rows alone): the samplers miss, the
+        // task decodes the whole photo and finds the same band, the same spectrum.
+        const margins = BAND_ROWS_DEFAULTS as { heightMultiple: number; extraPx: number };
+        const saved = { ...margins };
+        Object.assign(margins, { heightMultiple: 0, extraPx: 0 });
+        try {
+          stages.length = 0;
+          const again = await analyseSpectrumInput(file, { onStage: (stage) => void stages.push(stage) });
+          expect(stages).toEqual(['preview', 'coarse', 'rows', 'rows-missed', 'decode', 'band', 'extract', 'peaks']);
+          expect(again.analysis).toEqual(run.analysis);
+          expect(Array.from(again.spectrum.intensity)).toEqual(Array.from(run.spectrum.intensity));
+        } finally {
+          Object.assign(margins, saved);
+        }
       } finally {
         rmSync(dir, { recursive: true, force: true });
       }
