@@ -273,9 +273,9 @@ function sampleCodes(px: PixelAccess, g: Grid, out: SampledBand, combine: boolea
     const yLo = firstRow + 1e-3;
     const yHi = endRow - 1 - 1e-3;
     const interior = x >= lo && xe >= lo && y >= yLo && ye >= yLo && x < xHi && xe < xHi && y < yHi && ye < yHi;
-    if (interior && oneBit && C === 3) {
-      if (combine && !flagSaturated) interiorColumn3Combined(codes, lut, W, base, x, y, sdx, sdy, rows, k, p0, valid);
-      else if (combine) interiorColumn3CombinedFlagged(codes, lut, W, base, clipBit, x, y, sdx, sdy, rows, k, p0, valid, saturated);
+    // (Combined samples with clip flags, which no stage asks for, take the general loop: the same values and flags.)
+    if (interior && oneBit && C === 3 && !(combine && flagSaturated)) {
+      if (combine) interiorColumn3Combined(codes, lut, W, base, x, y, sdx, sdy, rows, k, p0, valid);
       else interiorColumn3(codes, lut, W, base, clipBit, x, y, sdx, sdy, rows, k, p0, p1, p2, valid, saturated);
     } else {
       if (windowed) checkColumnRows(px, y, ye);
@@ -371,50 +371,6 @@ function interiorColumn3Combined(
     const gg = w00 * lut[codes[a + 1]] + w01 * lut[codes[a + 4]] + w10 * lut[codes[b + 1]] + w11 * lut[codes[b + 4]];
     const bb = w00 * lut[codes[a + 2]] + w01 * lut[codes[a + 5]] + w10 * lut[codes[b + 2]] + w11 * lut[codes[b + 5]];
     p0[k] = (r + gg + bb) * third;
-  }
-}
-
-/** interiorColumn3Combined with the clip flags. */
-function interiorColumn3CombinedFlagged(
-  codes: Uint8Array | Uint16Array,
-  lut: Float32Array,
-  W: number,
-  base: number,
-  clipBit: number,
-  x: number,
-  y: number,
-  sdx: number,
-  sdy: number,
-  rows: number,
-  k: number,
-  p0: Float32Array,
-  valid: Uint8Array,
-  saturated: Uint8Array,
-): void {
-  const rowStride = 3 * W;
-  const third = 1 / 3;
-  for (let j = 0; j < rows; j++, k++, x += sdx, y += sdy) {
-    // Truncation is the floor here (x, y > 0; see interiorColumn3).
-    const xi = x | 0;
-    const yi = y | 0;
-    const fx = x - xi;
-    const fy = y - yi;
-    const w00 = (1 - fx) * (1 - fy);
-    const w01 = fx * (1 - fy);
-    const w10 = (1 - fx) * fy;
-    const w11 = fx * fy;
-    const a = (yi * W + xi) * 3 - base;
-    const b = a + rowStride;
-    valid[k] = 1;
-    const r00 = codes[a], g00 = codes[a + 1], b00 = codes[a + 2];
-    const r01 = codes[a + 3], g01 = codes[a + 4], b01 = codes[a + 5];
-    const r10 = codes[b], g10 = codes[b + 1], b10 = codes[b + 2];
-    const r11 = codes[b + 3], g11 = codes[b + 4], b11 = codes[b + 5];
-    const r = w00 * lut[r00] + w01 * lut[r01] + w10 * lut[r10] + w11 * lut[r11];
-    const gg = w00 * lut[g00] + w01 * lut[g01] + w10 * lut[g10] + w11 * lut[g11];
-    const bb = w00 * lut[b00] + w01 * lut[b01] + w10 * lut[b10] + w11 * lut[b11];
-    p0[k] = (r + gg + bb) * third;
-    saturated[k] = clippedFlag(clipBit, w00, w01, w10, w11, r00, g00, b00, r01, g01, b01, r10, g10, b10, r11, g11, b11);
   }
 }
 
