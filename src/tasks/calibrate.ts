@@ -9,6 +9,7 @@ import { calibrateFromPeaks, gratingPriors, type CalibrationResult } from '../co
 import type { DispersionFit } from '../core/calibration/fitDispersion.js';
 import type { ManualPair } from '../core/calibration/matchLines.js';
 import { calibrationLampLines } from '../core/calibration/calibrationLines.js';
+import { dispersionAtNmPerPx, wavelengthAtNm } from '../core/calibration/model.js';
 import { buildProfile, type InstrumentProfile } from '../core/calibration/profile.js';
 import { InputError, parseNumberOption } from '../core/errors.js';
 import { lampLines, type LampLines } from '../core/lines/index.js';
@@ -90,6 +91,8 @@ export interface CalibrateReport {
     excluded?: string;
     label?: string;
     source: 'manual' | 'matched';
+    /** Diffraction order of the peak: order-2 images of matched lines are listed, never used (their residual is 2λ against the scale). */
+    order: 1 | 2;
   }>;
   match: Record<string, unknown> | null;
   modelSelection: Array<Record<string, unknown>>;
@@ -143,7 +146,7 @@ export function calibrateReport(
     rangeNm: [conv(fit.rangeNm[0]), conv(fit.rangeNm[1])],
     rangePx: fit.rangePx,
     linesUsed: fit.linesUsed,
-    lines: fit.lines.map((l) => ({
+    lines: fit.lines.map((l): CalibrateReport['lines'][number] => ({
       positionPx: l.positionPx,
       positionUncertaintyPx: l.positionUncertaintyPx,
       wavelengthNm: conv(l.wavelengthNm),
@@ -154,10 +157,30 @@ export function calibrateReport(
       excluded: l.excluded,
       label: l.label,
       source: l.source,
-    })),
+      order: 1,
+    })).concat(
+      (match?.accepted ? match.secondOrder : []).map((m): CalibrateReport['lines'][number] => {
+        // The order-2 image of λ lies where the order-1 scale reads 2λ: its fitted value is half that reading.
+        const fittedNm = wavelengthAtNm(fit.model, m.positionPx) / 2;
+        return {
+          positionPx: m.positionPx,
+          positionUncertaintyPx: m.positionUncertaintyPx,
+          wavelengthNm: conv(m.wavelengthNm),
+          fittedNm: conv(fittedNm),
+          residualNm: conv(m.wavelengthNm) - conv(fittedNm),
+          residualPx: (2 * (m.wavelengthNm - fittedNm)) / dispersionAtNmPerPx(fit.model, m.positionPx),
+          used: false,
+          excluded: 'order 2',
+          label: m.line ? `${m.line.spectrum} ${m.line.wavelengthNm.toFixed(3)} (order 2)` : undefined,
+          source: 'matched',
+          order: 2,
+        };
+      }),
+    ),
     match: match?.score
       ? {
           matched: match.score.matched,
+          secondOrder: match.score.secondOrder,
           peaksInRange: match.score.peaksInRange,
           expectedByChance: match.score.expectedByChance,
           falseMatchProbability: match.score.falseMatchProbability,
@@ -196,7 +219,8 @@ export function formatCalibrateReport(r: CalibrateReport): string {
   );
   if (r.match) {
     out.push(
-      `matching: ${r.match.matched} of ${r.match.peaksInRange} peaks on lamp lines (chance alone: ${(r.match.expectedByChance as number).toFixed(1)}; ` +
+      `matching: ${r.match.matched} of ${r.match.peaksInRange} peaks on lamp lines` +
+        `${r.match.secondOrder ? ` and ${r.match.secondOrder} on their order-2 images` : ''} (chance alone: ${(r.match.expectedByChance as number).toFixed(1)}; ` +
         `false-match bound ${(r.match.falseMatchProbability as number).toExponential(1)})`,
     );
   }

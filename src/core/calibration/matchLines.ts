@@ -5,7 +5,7 @@ import { fitGrating, type GratingFitOptions } from './gratingModel.js';
 import { type Ctx, lineSigmaNm, nearest, type Pair, type PeakItem, prepareLines, samePairs, sigmaOf, strength } from './match/context.js';
 import { growSolution, type GrownSolution, refineSolution } from './match/growSolution.js';
 import { fitPairs, fitPairsParsimonious, residualPx } from './match/quickFit.js';
-import { countTrialsLog10, type MatchScore, scoreSolution } from './match/scoreSolution.js';
+import { countTrialsLog10, type MatchScore, scoreSolution, secondOrderPairs } from './match/scoreSolution.js';
 import { tripletSeeds } from './match/tripletSeeds.js';
 import { dispersionAtNmPerPx, wavelengthAtNm, type DispersionModel } from './model.js';
 import { modelSigmaNm } from './uncertainty.js';
@@ -24,7 +24,10 @@ export type { MatchScore } from './match/scoreSolution.js';
  *    RANSAC (Fischler & Bolles 1981, Commun. ACM 24, 381).
  * 4. Significance (match/scoreSolution.ts): matches beyond the model's fitted parameters against the binomial count
  *    chance gives, times the number of scale hypotheses. The best solution must beat chance by a wide margin, else
- *    the lamp is declared not to match: a wrong lamp never yields a scale. When the photo's geometry gives priors for
+ *    the lamp is declared not to match: a wrong lamp never yields a scale. A peak where the scale reads 2λ for a strong
+ *    line λ it matches in order 1 (no brighter than that line's peak) is the line's order-2 image (the grating
+ *    equation m λ = d (sin θi + sin θ)): it counts as a match, its hypotheses in the chance per peak, and is reported
+ *    apart (MatchResult.secondOrder), never fitted. When the photo's geometry gives priors for
  *    the physical grating model, the best solutions are scored with it too: its few effective parameters are what the
  *    physics leaves free, where a polynomial spends four.
  */
@@ -116,6 +119,8 @@ export interface LineMatch {
   residualPx: number;
   saturated: boolean;
   blended: boolean;
+  /** Diffraction order of the peak: 2 for a line's order-2 image (MatchResult.secondOrder); absent for order 1. */
+  order?: 2;
 }
 
 export interface MatchResult {
@@ -123,6 +128,12 @@ export interface MatchResult {
   /** Why the lamp was rejected (empty when accepted). */
   message: string;
   matches: LineMatch[];
+  /**
+   * Peaks the scale explains as the order-2 image of a line it matches in order 1 (at a first-order reading of 2λ,
+   * no brighter than that line's peak): counted as evidence in the score, never used to fit the scale. residualPx is
+   * measured − predicted position of the image (the order-1 scale reads 2λ there).
+   */
+  secondOrder: LineMatch[];
   /** The scale the matching converged on (diagnostics; the calibration itself is fitted by fitDispersion). */
   model: DispersionModel | null;
   score: MatchScore | null;
@@ -212,6 +223,7 @@ export function matchLines(
     accepted: false,
     message,
     matches: [],
+    secondOrder: [],
     model: null,
     score: null,
     runnerUp: null,
@@ -318,7 +330,7 @@ export function matchLines(
   const ambiguous =
     significant && manual.length < 2 && runner !== undefined && evidence(runner.score) - evidence(best.score) < MIN_RUNNER_UP_MARGIN;
   const accepted = significant && !ambiguous;
-  const matches: LineMatch[] = best.pairs.map((q) => {
+  const toMatch = (q: Pair, order: 1 | 2): LineMatch => {
     const peak = q.peak >= 0 ? P[q.peak] : null;
     const src = peak ? peaks[peak.index] : null;
     const dl = dispersionAtNmPerPx(best.model, q.x);
@@ -329,11 +341,14 @@ export function matchLines(
       wavelengthNm: q.lambda,
       line: q.line >= 0 ? L[q.line].line : undefined,
       source: q.manual ? 'manual' : 'matched',
-      residualPx: dl !== 0 ? (q.lambda - wavelengthAtNm(best.model, q.x)) / dl : 0,
+      residualPx: dl !== 0 ? (order * q.lambda - wavelengthAtNm(best.model, q.x)) / dl : 0,
       saturated: src ? src.saturated : false,
       blended: src ? src.blended : false,
+      ...(order === 2 ? { order: 2 as const } : {}),
     };
-  });
+  };
+  const matches = best.pairs.map((q) => toMatch(q, 1));
+  const secondOrder = secondOrderPairs(ctx, best).map((q) => toMatch(q, 2));
   if (accepted && runner && runner.score.log10Chance - best.score.log10Chance < 2) {
     warnings.push(
       `the line identification is ambiguous: another assignment matches ${runner.score.matched} peaks ` +
@@ -349,6 +364,7 @@ export function matchLines(
         ? ambiguityMessage(best.score, runner.score)
         : noMatchMessage(P.length, L.length, best.score),
     matches,
+    secondOrder,
     model: best.model,
     score: best.score,
     runnerUp: runner ? runner.score : null,

@@ -4,6 +4,14 @@
  * the count of matches beyond the model's fitted parameters is then binomial (with the mean p), and the solution's
  * score is its upper tail. The search looked at many scale hypotheses, so the tail is multiplied by their number
  * (Bonferroni's bound on the look-elsewhere effect) before it is compared with the acceptance threshold.
+ *
+ * Order 2: a grating puts each line's order-2 image where the order-1 scale reads 2λ. An unmatched peak within the
+ * tolerance of 2λ for a strong line (SECOND_ORDER_MIN_RANK, fixed by the line list) counts as a match, and every
+ * peak's chance p_i then includes those windows too (the union bound: P(order 1 or order 2) ≤ p1 + p2), so the tail
+ * stays a bound on chance. The success is further restricted to images no brighter than the line's own matched
+ * order-1 peak; a narrower success event under the same p_i keeps the bound valid (conservative). Counting them as
+ * evidence, not merely dropping them from the unexplained pool, avoids a selection the chance model does not see:
+ * dropping failures chosen by a rule that depends on the order-1 matches would bias the binomial count.
  */
 import { dispersionAtNmPerPx, wavelengthAtNm, type DispersionModel } from '../model.js';
 import { log10BinomialTail } from '../significance.js';
@@ -14,6 +22,11 @@ import { rmsPx } from './quickFit.js';
 export interface MatchScore {
   /** Matched peaks that count as evidence (see scoreSolution). */
   matched: number;
+  /**
+   * Peaks matched as the order-2 image of a strong line the solution matches in order 1 (see scoreSolution): evidence
+   * beside `matched`, with their hypotheses in the chance per peak; never part of the fit.
+   */
+  secondOrder: number;
   /** Peaks that take part: inside the lamp's line range and able to count either way. */
   peaksInRange: number;
   /** Mean chance that one unrelated peak lands on a line: tolerance window × density of the lines its colour admits. */
@@ -74,12 +87,16 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
   let inRange = 0;
   let matched = 0;
   let manualPeaks = 0;
+  let secondOrder = 0;
   let pSum = 0;
+  const strong = strongLinesOf(ctx);
+  const brightestOf = firstOrderStrength(ctx, pairs);
   for (const q of taking) {
     const pair = pairOf.get(q);
     const disp = Math.abs(dispersionAtNmPerPx(model, px[q]));
     if (P[q].sigma > 0.5 * tolPx && P[q].blended) continue;
     const tolQ = Math.max(tolPx, 3 * P[q].sigma);
+    const lamQ = wavelengthAtNm(model, px[q]);
     // p_i = 2·tol_i·|dλ/dx| · (lines of the covered range inside the peak's colour band) / (covered range), with
     // tol_i the position tolerance widened, as in the matching, by twice the line's reference uncertainty (a broad
     // or blended feature catches peaks in a wider window). Counting the lines inside the band, not the band's share
@@ -89,31 +106,64 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
     const bLo = band ? Math.max(band[0], covLo) : covLo;
     const bHi = band ? Math.min(band[1], covHi) : covHi;
     const lines = bHi >= bLo ? lowerBound(lw, bHi + 1e-9) - lowerBound(lw, bLo - 1e-9) : 0;
-    if (lines === 0 && !pair) continue;
+    // Order-2 hypotheses of this peak (see SECOND_ORDER_MIN_RANK): the strong lines λ its colour admits whose order-2
+    // image, at a first-order reading of 2λ, falls in the covered range.
+    const s2Lo = lowerBound(strong.lw, Math.max(covLo / 2, band ? band[0] : -Infinity) - 1e-9);
+    const s2Hi = lowerBound(strong.lw, Math.min(covHi / 2, band ? band[1] : Infinity) + 1e-9);
+    const order2 = pair ? 0 : Math.max(0, s2Hi - s2Lo);
+    if (lines === 0 && !pair && order2 === 0) continue;
     const tolNm = tolQ * disp + 2 * (pair ? lineSigmaNm(ctx, pair) : typicalSigmaNm);
     inRange++;
-    pSum += Math.min(1, (2 * tolNm * Math.max(lines, 1)) / covWidth);
+    // An unmatched peak may instead land within tol of 2λ (the window widened by twice the line's reference
+    // uncertainty, doubled in order 2): its chance is the sum of those windows' shares of the range.
+    let p2 = 0;
+    let hit2 = -1;
+    let off2 = Infinity;
+    for (let s = s2Lo; s < s2Lo + order2; s++) {
+      const l = strong.line[s];
+      const half = tolQ * disp + 4 * ctx.L[l].sigmaNm;
+      p2 += (2 * half) / covWidth;
+      const off = Math.abs(lamQ - 2 * strong.lw[s]);
+      // A match only when the line is matched in order 1 at least as bright: an order-2 image outshining its own
+      // first order is no grating's (this only narrows the success event, so the chance bound stays valid).
+      if (off <= half && off < off2 && (brightestOf.get(l) ?? -1) >= P[q].strength) {
+        hit2 = s;
+        off2 = off;
+      }
+    }
+    pSum += Math.min(1, (lines > 0 || pair ? (2 * tolNm * Math.max(lines, 1)) / covWidth : 0) + p2);
     if (pair) {
       matched++;
       if (pair.manual) manualPeaks++;
+    } else if (hit2 >= 0) {
+      secondOrder++;
     }
     // A blended peak's centroid lies between its lines, where no σ-window applies: it takes no part in those counts.
     if (windows && !pair?.manual && !P[q].blended) {
       // σ of a peak's position against its line (nm): its centroid's and the line's reference uncertainty.
       const sigmaNm = Math.hypot((pair ? sigmaOf(ctx, pair) : P[q].sigma) * disp, pair ? lineSigmaNm(ctx, pair) : typicalSigmaNm);
-      const offNm = pair ? Math.abs(pair.lambda - wavelengthAtNm(model, px[q])) : Infinity;
+      const offNm = pair ? Math.abs(pair.lambda - lamQ) : Infinity;
       SIGMA_WINDOWS.forEach((k, w) => {
         const win = windows[w];
         win.n++;
-        win.pSum += Math.min(1, (2 * k * sigmaNm * Math.max(lines, 1)) / covWidth);
-        if (offNm <= k * sigmaNm) win.hits++;
+        let pw = lines > 0 || pair ? (2 * k * sigmaNm * Math.max(lines, 1)) / covWidth : 0;
+        let hit = offNm <= k * sigmaNm;
+        // The order-2 hypotheses likewise, each within k σ of 2λ (σ of the reading: the centroid's, and twice the
+        // line's reference uncertainty).
+        for (let s = s2Lo; s < s2Lo + order2; s++) {
+          const sigma2 = Math.hypot(P[q].sigma * disp, 2 * ctx.L[strong.line[s]].sigmaNm);
+          pw += (2 * k * sigma2) / covWidth;
+          if (s === hit2 && off2 <= k * sigma2) hit = true;
+        }
+        win.pSum += Math.min(1, pw);
+        if (hit) win.hits++;
       });
     }
   }
   const pChance = inRange ? pSum / inRange : 1;
   // Manual pairs are given, not found; the model's parameters are fitted to as many matches: neither is evidence.
   const free = Math.max(0, parameters - manualPeaks);
-  const mEff = matched - manualPeaks - free;
+  const mEff = matched + secondOrder - manualPeaks - free;
   const nEff = Math.max(inRange - manualPeaks - free, 0);
   let log10Chance = mEff <= 0 ? 0 : log10BinomialTail(mEff, nEff, pChance);
   if (windows && mEff > 0) {
@@ -128,6 +178,7 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
   }
   return {
     matched,
+    secondOrder,
     peaksInRange: inRange,
     chancePerPeak: pChance,
     parameters,
@@ -147,6 +198,77 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
  * widths are fixed before any data are seen, so each count is an exact binomial test (common practice, no source).
  */
 const SIGMA_WINDOWS = [1.5, 2, 3];
+
+/**
+ * Lines strong enough to be seen in order 2 (brightness rank, relative to the strongest of their spectrum): a
+ * transmission grating sends a few to a few tens of per cent of order 1's flux into order 2 (common practice, no
+ * source), so only lines within an order of magnitude of the brightest leave a peak there. The set is fixed by the
+ * line list before any peak is seen, which keeps each order-2 hypothesis a fixed window in the chance model.
+ */
+export const SECOND_ORDER_MIN_RANK = 0.1;
+
+interface StrongLines {
+  /** Wavelengths (nm) of the strong lines, sorted. */
+  lw: Float64Array;
+  /** Their indices into ctx.L. */
+  line: Int32Array;
+}
+
+const STRONG_CACHE = new WeakMap<Ctx, StrongLines>();
+
+function strongLinesOf(ctx: Ctx): StrongLines {
+  let s = STRONG_CACHE.get(ctx);
+  if (!s) {
+    const idx: number[] = [];
+    ctx.L.forEach((l, i) => {
+      if (l.rank >= SECOND_ORDER_MIN_RANK) idx.push(i);
+    });
+    s = { lw: Float64Array.from(idx, (i) => ctx.L[i].wavelengthNm), line: Int32Array.from(idx) };
+    STRONG_CACHE.set(ctx, s);
+  }
+  return s;
+}
+
+/** The strength of the brightest peak each line is matched to in order 1 (by line index). */
+function firstOrderStrength(ctx: Ctx, pairs: readonly Pair[]): Map<number, number> {
+  const m = new Map<number, number>();
+  for (const q of pairs) if (q.peak >= 0 && q.line >= 0) m.set(q.line, Math.max(m.get(q.line) ?? 0, ctx.P[q.peak].strength));
+  return m;
+}
+
+/**
+ * The peaks a solution explains as order-2 images (the same rule scoreSolution counts by): each unmatched peak whose
+ * first-order reading lies within the matching tolerance (+ 4 × the line's reference uncertainty) of 2λ for a strong
+ * line λ its colour admits, that the solution matches in order 1 to a peak at least as strong.
+ */
+export function secondOrderPairs(ctx: Ctx, solution: GrownSolution): Pair[] {
+  const { P, px } = ctx;
+  const { model, pairs, window, tolerancePx: tolPx } = solution;
+  const strong = strongLinesOf(ctx);
+  const brightestOf = firstOrderStrength(ctx, pairs);
+  const taken = new Set(pairs.map((q) => q.peak));
+  const out: Pair[] = [];
+  for (let q = lowerBound(px, window[0]); q < px.length && px[q] <= window[1]; q++) {
+    if (taken.has(q) || (P[q].sigma > 0.5 * tolPx && P[q].blended)) continue;
+    const disp = Math.abs(dispersionAtNmPerPx(model, px[q]));
+    const tolQ = Math.max(tolPx, 3 * P[q].sigma);
+    const lamQ = wavelengthAtNm(model, px[q]);
+    const band = P[q].band;
+    let best = -1;
+    let bestOff = Infinity;
+    for (let s = lowerBound(strong.lw, lamQ / 2 - 50); s < strong.lw.length && strong.lw[s] <= lamQ / 2 + 50; s++) {
+      const l = strong.line[s];
+      if (band && (strong.lw[s] < band[0] || strong.lw[s] > band[1])) continue;
+      const off = Math.abs(lamQ - 2 * strong.lw[s]);
+      if (off <= tolQ * disp + 4 * ctx.L[l].sigmaNm && off < bestOff && (brightestOf.get(l) ?? -1) >= P[q].strength) {
+        best = l;
+        bestOff = off;
+      }
+    }
+    if (best >= 0) out.push({ peak: q, line: best, x: px[q], lambda: ctx.L[best].wavelengthNm, manual: false });
+  }
+  return out;
+}
 
 /**
  * How many distinct scale hypotheses the search could have produced: pairs of peaks able to count as evidence times
