@@ -37,6 +37,13 @@ export interface SyntheticOptions {
    * (d cos β / f). Null: the dispersion is drawn from `dispersionNmPerPx` and f follows from it.
    */
   camera: { sensors: ReadonlyArray<{ widthPx: number; heightPx: number }>; focal35mmMm: [number, number] } | null;
+  /**
+   * Order-2 images: each line also appears where the order-1 scale reads 2λ, at this fraction of its order-1
+   * brightness (drawn uniformly per case; a transmission grating sends ~3–30 % of order 1's flux into order 2, common
+   * practice, no source), if above the detection threshold and not on an order-1 peak. They are drawn after
+   * everything else, so a case's order-1 peaks and extras are the same with and without them. null: none.
+   */
+  secondOrder: [number, number] | null;
 }
 
 export const SYNTHETIC_DEFAULTS: SyntheticOptions = {
@@ -51,6 +58,7 @@ export const SYNTHETIC_DEFAULTS: SyntheticOptions = {
   colour: true,
   fwhmPx: [2, 6],
   camera: null,
+  secondOrder: null,
 };
 
 export interface SyntheticCase {
@@ -177,6 +185,24 @@ export function syntheticCase(seed: number, lines: readonly SpectralLine[], opti
     const b = rng.uniform();
     peaks.push(makePeak(rng, x, noisePx, threshold * (1 + 5 * rng.uniform()), o.colour ? { r: r / (r + g + b), g: g / (r + g + b), b: b / (r + g + b) } : undefined));
     truthNm.push(null);
+  }
+  if (o.secondOrder) {
+    const efficiency = uniform(rng, o.secondOrder);
+    const firstOrderXs = peaks.map((p) => p.positionPx);
+    for (const line of lines) {
+      const s = sensor(line.wavelengthNm);
+      const brightness = efficiency * (line.intensity / (maxBy.get(line.spectrum) || 1)) * ((s.r + s.g + s.b) / maxResp);
+      if (brightness < threshold) continue;
+      // m λ = d (sin θi + sin β): order 2 of λ lies where order 1 of 2λ would.
+      const x = positionOf(truth, 2 * line.wavelengthNm, -20 * o.widthPx, 21 * o.widthPx);
+      if (x === null || x < 5 || x > o.widthPx - 5) continue;
+      if (firstOrderXs.some((x1) => Math.abs(x1 - x) < 1.2 * fwhmPx)) continue;
+      const sum = s.r + s.g + s.b;
+      const peak = makePeak(rng, x + noisePx * rng.normal(), noisePx, brightness, o.colour ? { r: s.r / sum, g: s.g / sum, b: s.b / sum } : undefined);
+      peak.fwhmPx = fwhmPx;
+      peaks.push(peak);
+      truthNm.push(null);
+    }
   }
   const order = peaks.map((_, i) => i).sort((a, b) => peaks[a].positionPx - peaks[b].positionPx);
   return {
