@@ -394,6 +394,8 @@ const INVISIBLE_SHARE = 0.25;
  * and is left out).
  */
 const FIRST_ORDER_READING_FLOOR = 0.3;
+/** … and up to this fraction of the longest (half of it, and a tenth more for the straight extrapolation). */
+const FIRST_ORDER_READING_CEILING = 0.55;
 
 /**
  * The solution, or it with no significance when its scale puts invisiblePeaksVeto peaks of at least median strength,
@@ -403,7 +405,9 @@ const FIRST_ORDER_READING_FLOOR = 0.3;
  * first: by the grating equation (m λ = d (sin θi + sin θ)) it reads λ/2 at each line's first-order image, which lies
  * toward the zero order, λ/(2Δλ) matched spans away for lines spanning Δλ (several spans for a lamp whose lines cover
  * 100 nm), and is brighter than the image. So every peak whose reading lies between FIRST_ORDER_READING_FLOOR × the
- * shortest matched wavelength and the UV limit counts, however far out; beyond the matched lines the scale is
+ * shortest matched wavelength and the UV limit counts, however far out, and so does every unmatched one beyond the
+ * matched lines reading up to FIRST_ORDER_READING_CEILING × the longest (a red lamp's first order reads above the UV
+ * limit under its order-2 scale: Ne's 585–745 nm lines at 293–372 nm); beyond the matched lines the scale is
  * continued straight with its end dispersion (a polynomial's own extrapolation can turn anywhere; a grating's
  * dispersion changes little across a band). (A reach of one matched span, used before, missed the first order of
  * every such scale of the synthetic sweep with order-2 images: 20 of 200 accepted wrong at 10^-6 to 10^-20.)
@@ -417,15 +421,20 @@ function vetoInvisible(ctx: Ctx, sol: Solution): Solution {
   const last = sol.pairs[sol.pairs.length - 1].x;
   const uvNm = ctx.o.wavelengthRangeNm[0] - INVISIBLE_MARGIN_NM;
   const floorNm = FIRST_ORDER_READING_FLOOR * Math.min(...sol.pairs.map((q) => q.lambda));
+  const halfNm = FIRST_ORDER_READING_CEILING * Math.max(...sol.pairs.map((q) => q.lambda));
+  const matched = new Set(sol.pairs.map((q) => q.peak));
   let invisible = 0;
   let bright = 0;
-  for (const p of ctx.P) {
-    if (p.strength < median) continue;
+  ctx.P.forEach((p, i) => {
+    if (p.strength < median) return;
     bright++;
     const end = p.x < first ? first : p.x > last ? last : p.x;
     const lam = wavelengthAtNm(sol.model, end) + dispersionAtNmPerPx(sol.model, end) * (p.x - end);
-    if (lam < uvNm && lam >= floorNm) invisible++;
-  }
+    if (lam < floorNm) return;
+    // Below the UV limit: invisible; beyond the matched lines and unmatched, up to half the longest matched line:
+    // where the first order of an order-2 scale's lines lies.
+    if (lam < uvNm || (lam < halfNm && end !== p.x && !matched.has(i))) invisible++;
+  });
   return invisible >= Math.max(limit, INVISIBLE_SHARE * bright) ? { ...sol, score: { ...sol.score, log10Chance: 0, log10Multiplicity: 0 } } : sol;
 }
 
