@@ -55,6 +55,16 @@ describe('glowprint calibrate <photo> --lamp fluorescent (the demo rig: 1000 lin
     const lines = out.lines as Array<Record<string, unknown>>;
     expect(lines.length).toBeGreaterThanOrEqual(6);
     for (const l of lines) for (const key of ['position_px', 'wavelength_nm', 'residual_nm', 'used']) expect(l).toHaveProperty(key);
+    // Order-2 images of matched lines are listed with their order, never used; the match counts as evidence those
+    // inside the lamp's line range. The demo rig's grating draws order 2: Hg 404.656 nm (NIST ASD) is seen there,
+    // where the order-1 scale reads 809.3 nm, beyond the fluorescent lamp's lines.
+    for (const l of lines) expect([1, 2]).toContain(l.order);
+    const second = lines.filter((l) => l.order === 2);
+    for (const l of second) expect(l.used).toBe(false);
+    expect((out.match as Record<string, unknown>).second_order as number).toBeLessThanOrEqual(second.length);
+    const hg405 = second.find((l) => Math.abs((l.wavelength_nm as number) - 404.656) <= 0.01);
+    expect(hg405).toBeDefined();
+    expect(Math.abs(hg405!.residual_nm as number)).toBeLessThanOrEqual(0.3);
     expect((out.model as Record<string, unknown>).kind).toBe('grating');
     const [lo, hi] = out.range_nm as number[];
     expect(lo).toBeLessThan(hi);
