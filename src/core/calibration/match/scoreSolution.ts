@@ -119,16 +119,24 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
     let p2 = 0;
     let hit2 = -1;
     let off2 = Infinity;
+    // For the σ-window counts: the sum of the order-2 hypotheses' σ (the centroid's and twice the line's reference
+    // uncertainty), and that of the matched one.
+    let sigma2Sum = 0;
+    let sigma2Hit = 0;
+    const centroidNm = P[q].sigma * disp;
     for (let s = s2Lo; s < s2Lo + order2; s++) {
       const l = strong.line[s];
       const half = tolQ * disp + 4 * ctx.L[l].sigmaNm;
       p2 += (2 * half) / covWidth;
+      const sigma2 = windows ? Math.hypot(centroidNm, 2 * ctx.L[l].sigmaNm) : 0;
+      sigma2Sum += sigma2;
       const off = Math.abs(lamQ - 2 * strong.lw[s]);
       // A match only when the line is matched in order 1 at least as bright: an order-2 image outshining its own
       // first order is no grating's (this only narrows the success event, so the chance bound stays valid).
       if (off <= half && off < off2 && (brightestOf.get(l) ?? -1) >= P[q].strength) {
         hit2 = s;
         off2 = off;
+        sigma2Hit = sigma2;
       }
     }
     pSum += Math.min(1, (lines > 0 || pair ? (2 * tolNm * Math.max(lines, 1)) / covWidth : 0) + p2);
@@ -146,17 +154,11 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
       SIGMA_WINDOWS.forEach((k, w) => {
         const win = windows[w];
         win.n++;
-        let pw = lines > 0 || pair ? (2 * k * sigmaNm * Math.max(lines, 1)) / covWidth : 0;
-        let hit = offNm <= k * sigmaNm;
         // The order-2 hypotheses likewise, each within k σ of 2λ (σ of the reading: the centroid's, and twice the
         // line's reference uncertainty).
-        for (let s = s2Lo; s < s2Lo + order2; s++) {
-          const sigma2 = Math.hypot(P[q].sigma * disp, 2 * ctx.L[strong.line[s]].sigmaNm);
-          pw += (2 * k * sigma2) / covWidth;
-          if (s === hit2 && off2 <= k * sigma2) hit = true;
-        }
+        const pw = (lines > 0 || pair ? (2 * k * sigmaNm * Math.max(lines, 1)) / covWidth : 0) + (2 * k * sigma2Sum) / covWidth;
         win.pSum += Math.min(1, pw);
-        if (hit) win.hits++;
+        if (offNm <= k * sigmaNm || (hit2 >= 0 && off2 <= k * sigma2Hit)) win.hits++;
       });
     }
   }
