@@ -174,11 +174,25 @@ export const NO_EMISSION_LINES = 'no emission lines found';
 const FLUX_CLASS_EDGES = [0.05, 0.005];
 
 /**
- * A scale set by one matched feature predicts only the features tabulated stronger than it: that one feature may be
+ * A scale set by one matched feature predicts only the features tabulated stronger than it when that feature may be
  * a resonance line (Na D, Li 670.8 nm), whose self-absorption in a lamp makes its ratio to weaker lines vary by orders
- * of magnitude, but a weak line seen without the strong ones is not that species. Two or more features predict all.
+ * of magnitude; but a weak line seen without the strong ones is not that species. Two or more features predict all,
+ * and so does one feature whose lines are all listed as not persistent (see mayBeResonanceLine).
  */
 const FULL_SCALE_FEATURES = 2;
+
+/**
+ * Whether a line may be a resonance line, for the one-feature rule above. The resonance lines of the visible range
+ * are the persistent lines of their spectra (flag P: the NIST Handbook's persistent lines, the last to fade as the
+ * element's amount falls; a fact of the trade, no source); a line listed without P is not one. Lines of an imported
+ * list carry no such flag and may be. A single N II line (flag S) that fits a peak the list cannot otherwise explain
+ * now predicts N II's other lines, so N is not named on that one line (rendered Ar + Hg tubes, where a mercury
+ * line the list lacks sits 0.4 nm from N II 567.956 nm).
+ */
+function mayBeResonanceLine(line: SpectralLine): boolean {
+  const persistent = (line as { persistent?: unknown }).persistent;
+  return typeof persistent !== 'boolean' || persistent;
+}
 
 /**
  * A spectrum of a species other than its main one (most matched features) predicts missing lines only from this many
@@ -355,6 +369,7 @@ export function identifySpecies(peaks: readonly CalibratedPeak[], options: Ident
       // Scale of each spectrum from the features it dominates (see FULL_SCALE_FEATURES for a scale from one).
       const ratios = new Map<string, number[]>();
       const strongestSeen = new Map<string, number>();
+      const mayBeResonance = new Map<string, boolean>();
       for (const [fi, flux] of featureFlux) {
         const f = t.features[fi];
         if (f.purity < 0.8) continue;
@@ -362,11 +377,15 @@ export function identifySpecies(peaks: readonly CalibratedPeak[], options: Ident
         list.push(flux / f.relative);
         ratios.set(f.spectrum, list);
         strongestSeen.set(f.spectrum, Math.max(strongestSeen.get(f.spectrum) ?? 0, f.relative));
+        mayBeResonance.set(f.spectrum, (mayBeResonance.get(f.spectrum) ?? false) || f.lines.some(mayBeResonanceLine));
       }
       // The lower quartile, not the median: the lines that were seen are the ones that came out bright (selection),
       // and a scale set too high would call faint lines missing.
       const scales = new Map(
-        [...ratios].map(([key, list]) => [key, { scale: lowerQuartile(list), count: list.length, above: list.length >= FULL_SCALE_FEATURES ? 0 : strongestSeen.get(key)! }]),
+        [...ratios].map(([key, list]) => [
+          key,
+          { scale: lowerQuartile(list), count: list.length, above: list.length >= FULL_SCALE_FEATURES || !mayBeResonance.get(key) ? 0 : strongestSeen.get(key)! },
+        ]),
       );
       // The species' main spectrum here is the one with the most matched features. A single feature of another
       // spectrum (an ion line beside the neutral ones) may as well be a coincidence — a line the list lacks, another
