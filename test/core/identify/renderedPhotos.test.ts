@@ -25,18 +25,22 @@ describe('identification of rendered tube photos', () => {
     { recipe: [['Ne', 1], ['Hg', 0.4]], seed: 6 },
   ];
   const photos = tubes.map((t) => ({ ...t, tube: tubeSpectrum(tubeSource(t.recipe, 100 + t.seed), t.seed, profile.band) }));
+  /** Identification through the profile, over the wavelength range the photo covers (as `identify --calibration`). */
+  const identifyWithProfile = (tube: ReturnType<typeof tubeSpectrum>) => {
+    const lo = wavelengthAtNm(profile.scale.model, tube.positionRangePx[0]);
+    const hi = wavelengthAtNm(profile.scale.model, tube.positionRangePx[1]);
+    return identifySpecies(calibratePeaks(tube.peaks, profile.scale), {
+      lines,
+      rangeNm: [Math.max(350, Math.min(lo, hi)), Math.min(1000, Math.max(lo, hi))],
+      systematicNm: Math.max(profile.rmsNm, 0.05),
+    });
+  };
 
   it('names every gas with a profile: exactly the present set for single gases and mixtures', () => {
     expect(profile.rmsNm).toBeLessThanOrEqual(0.2);
     const wrong: string[] = [];
     for (const { recipe, tube } of photos) {
-      const lo = wavelengthAtNm(profile.scale.model, tube.positionRangePx[0]);
-      const hi = wavelengthAtNm(profile.scale.model, tube.positionRangePx[1]);
-      const r = identifySpecies(calibratePeaks(tube.peaks, profile.scale), {
-        lines,
-        rangeNm: [Math.max(350, Math.min(lo, hi)), Math.min(1000, Math.max(lo, hi))],
-        systematicNm: Math.max(profile.rmsNm, 0.05),
-      });
+      const r = identifyWithProfile(tube);
       const want = recipe.map(([e]) => e).sort().join('+');
       const got = r.species.filter((s) => s.present).map((s) => s.element).sort().join('+');
       if (got !== want) wrong.push(`${want}→${got || 'nothing'}`);
@@ -53,13 +57,7 @@ describe('identification of rendered tube photos', () => {
   it('names an argon–mercury tube Ar + Hg, not nitrogen on one N II line beside an unlisted mercury line', () => {
     for (let seed = 1; seed <= 3; seed++) {
       const tube = tubeSpectrum(tubeSource([['Ar', 1], ['Hg', 0.6]], 580 + seed), 780 + seed, profile.band);
-      const lo = wavelengthAtNm(profile.scale.model, tube.positionRangePx[0]);
-      const hi = wavelengthAtNm(profile.scale.model, tube.positionRangePx[1]);
-      const r = identifySpecies(calibratePeaks(tube.peaks, profile.scale), {
-        lines,
-        rangeNm: [Math.max(350, Math.min(lo, hi)), Math.min(1000, Math.max(lo, hi))],
-        systematicNm: Math.max(profile.rmsNm, 0.05),
-      });
+      const r = identifyWithProfile(tube);
       expect(r.species.filter((x) => x.present).map((x) => x.element).sort(), `seed ${seed}`).toEqual(['Ar', 'Hg']);
       expect(r.species.find((x) => x.element === 'N')!.evidenceTerms.missing, `seed ${seed}`).toBeLessThan(-2);
     }
