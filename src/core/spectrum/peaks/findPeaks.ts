@@ -578,8 +578,8 @@ function findSpikes(r: Float64Array, cands: Candidate[], noise: number): Set<Can
  * under the weights 1/variance of a bright camera line the χ² is ruled by the line shape's departure from a
  * Gaussian, and a pair that close then splits into a broad line and a sliver again, not into the two lines (seen on
  * the demo's neon tube). A too-narrow line farther out — a line on the flank of a broad band, say — is left as it
- * is: started again from the reference width, its fit traded height with the band and moved off the line (the
- * demo's Hα beside a nitrogen band, by 0.5 nm, where its three-point estimate is within 0.2 nm). The reference is a
+ * is: refitted from the reference width (tried), the demo's Hα beside a nitrogen band traded height with the band
+ * and moved 0.5 nm off the line, where its three-point estimate is within 0.2 nm. The reference is a
  * median over up to 7 strong lines with no saturated sample, so a degenerate line among them does not move it.
  * Returns the candidates kept.
  */
@@ -598,16 +598,15 @@ function mergeSlivers(
   });
   if (clean.length < 3) return cands;
   const sigma = cands.map((c) => c.fit.sigma);
-  const reference = cands.map((_, j) => localReference(cands, clean, sigma, j));
   const dropped = new Set<Candidate>();
   const refit = new Set<Candidate>();
   cands.forEach((c, j) => {
-    if (!(c.fit.sigma < o.minWidthRatio * reference[j])) return;
+    if (!(c.fit.sigma < o.minWidthRatio * localReference(cands, clean, sigma, j))) return;
     const k = nearestNeighbour(cands, j);
     if (k < 0) return;
     const nb = cands[k];
     const onTop = Math.abs(nb.fit.center - c.fit.center) < 0.5 * FWHM_PER_SIGMA * nb.fit.sigma;
-    if (onTop && nb.method === 'gaussian' && nb.fit.sigma > reference[k] && !dropped.has(nb)) {
+    if (onTop && nb.method === 'gaussian' && !dropped.has(nb) && nb.fit.sigma > localReference(cands, clean, sigma, k)) {
       dropped.add(c);
       refit.add(nb);
     }
@@ -664,10 +663,11 @@ function markBlends(peaks: Peak[], cands: Candidate[], noise: number, o: Resolve
     if (!peaks[j].blended && !peaks[j].saturated && c.method === 'gaussian' && c.fit.amplitude >= 10 * noise) clean.push(j);
   });
   if (clean.length < 3) return;
-  const reference = cands.map((_, j) => localReference(cands, clean, fwhm, j));
   cands.forEach((c, j) => {
-    if (c.method !== 'gaussian' || peaks[j].saturated || !(reference[j] > 0)) return;
-    const excess = fwhm[j] - o.blendWidthRatio * reference[j];
+    if (c.method !== 'gaussian' || peaks[j].saturated) return;
+    const reference = localReference(cands, clean, fwhm, j);
+    if (!(reference > 0)) return;
+    const excess = fwhm[j] - o.blendWidthRatio * reference;
     if (excess > 0 && excess > 2 * FWHM_PER_SIGMA * c.sigmaSd) peaks[j].blended = true;
   });
 }
