@@ -492,6 +492,22 @@ export function windowedImageFromCodes(parts: CodedImageParts, firstRowPx: numbe
   return image;
 }
 
+/**
+ * A decoded row window narrowed to the rows [fromPx, toPx) inside it, sharing its codes (no copy): what a decode of
+ * just those rows would have given, to the byte. Used when rows were decoded from a guess that covers more.
+ */
+export function narrowRowWindow(decoded: DecodedImage, fromPx: number, toPx: number): DecodedImage {
+  const image = decoded.image as WindowedImage;
+  const w = image.rowWindow;
+  if (w === undefined || !(fromPx >= w.firstRowPx && toPx <= w.firstRowPx + w.rowCount && toPx - fromPx >= 2)) {
+    throw invalid('rows', `whole rows inside the decoded ${w ? `${w.firstRowPx}–${w.firstRowPx + w.rowCount}` : 'photo'}`, `${fromPx}–${toPx}`);
+  }
+  const row = image.width * image.channels;
+  const codes = image.codes!.subarray((fromPx - w.firstRowPx) * row, (toPx - w.firstRowPx) * row);
+  const parts = { width: image.width, height: image.height, channels: image.channels, codes, codeToLinear: image.codeToLinear! };
+  return { ...decoded, image: windowedImageFromCodes(parts, fromPx, toPx - fromPx) };
+}
+
 function lineariseCodes(codes: Uint8Array | Uint16Array, table: Float32Array): Float32Array {
   const n = codes.length;
   const out = new Float32Array(n);

@@ -8,7 +8,7 @@ import { applyProfileToPeaks, type InstrumentProfile, positionsInProfileFrame } 
 import { wavelengthAtNm } from '../core/calibration/model.js';
 import { InputError } from '../core/errors.js';
 import { decimatePreview } from '../core/spectrum/band/decimate.js';
-import { bandRows, RowWindowMiss } from '../core/spectrum/band/rowWindow.js';
+import { bandRows, guessBandRows, RowWindowMiss } from '../core/spectrum/band/rowWindow.js';
 import type { CoarseBand } from '../core/spectrum/band/coarse.js';
 import { type CoarseSearch, FIND_BAND_DEFAULTS, type FoundBand, findBand, previewSuitsSearch, searchBandCoarse } from '../core/spectrum/findBand.js';
 import { type ExtractSpectrumOptions, extractSpectrum } from '../core/spectrum/extract.js';
@@ -16,7 +16,7 @@ import { findPeaksDetailed, peaksToWavelength } from '../core/spectrum/peaks/ind
 import { plotSpectrumSvg } from '../core/spectrum/plotSpectrum.js';
 import type { BandGeometry, Peak, Spectrum } from '../core/types.js';
 import { airToVacuumNm } from '../core/units/airVacuum.js';
-import { type DecodedImage, decodeImageStaged, type ExifSummary, type StagedDecode } from '../io/image.js';
+import { type DecodedImage, decodeImageStaged, type ExifSummary, narrowRowWindow, type StagedDecode } from '../io/image.js';
 import { readSpectrumCsv } from '../io/readSpectrumCsv.js';
 import { sniffKind } from '../io/sniff.js';
 import { createSvgDocument } from '../io/svgDocument.js';
@@ -86,8 +86,8 @@ export interface AnalyseSpectrumOptions {
 
 /**
  * The stages of a photo's analysis, in the order they end. A large upright JPEG goes preview (its 1/8-scale decode) →
- * coarse (the band search on it; the decode of the band's rows starts during its last part) → rows (the rest of that
- * decode) → band → extract → peaks; should the band
+ * coarse (the band search on it; the decode of the band's rows starts at its beginning, from a guess, or else during
+ * its last part) → rows (the rest of that decode) → band → extract → peaks; should the band
  * need rows beyond those ('rows-missed': the refinement's time lost), the whole photo is decoded ('decode') and the
  * band found again. Other large JPEGs decode the whole photo while the preview and coarse search run ('decode' is
  * then the wall time from the start until the photo is ready, which they overlap); other photos have no preview.
@@ -331,14 +331,26 @@ async function coarseFromPreview(
     const { width, height } = { width: preview.image.width * preview.scale, height: preview.image.height * preview.scale };
     const d = FIND_BAND_DEFAULTS;
     const dec = decimatePreview(preview.image, preview.scale, width, height, d.coarseMaxSidePx, d.saturationLevel);
-    // The band's rows are decoded while the coarse band is refined on the coarse image (bandRows' margins hold the
-    // refinement's few pixels of change: measured 3–15 px at the window's edges against margins of 2 H + 48 px).
     const startRows = staged.rows;
+    // The band's rows are decoded while the coarse search runs: from a guess made on the coarse image at once
+    // (guessBandRows), kept when it covers the rows the coarse band needs (bandRows) and narrowed to them, so that the
+    // band stages read (and miss, RowWindowMiss) exactly the rows they always did; else those rows are decoded as
+    // soon as the coarse components are known and the decode runs while the coarse band is refined on the coarse
+    // image (bandRows' margins hold the refinement's few pixels of change: measured 3–15 px at the window's edges
+    // against margins of 2 H + 48 px).
+    const guess = startRows ? guessBandRows(dec.planes, dec.width, dec.height, dec.factor, height) : null;
+    if (guess && startRows) {
+      rows = startRows(guess.fromPx, guess.toPx);
+      rows.catch(() => undefined); // awaited after the search, if that succeeds
+    }
     const onComponents = startRows
       ? (c: CoarseBand): void => {
           const r = bandRows(c.band, c.memberEnds, height);
-          rows = startRows(r.fromPx, r.toPx);
-          rows.catch(() => undefined); // awaited after the search, if that succeeds
+          if (guess && rows && guess.fromPx <= r.fromPx && guess.toPx >= r.toPx) {
+            // The same window as a decode of r alone (shared codes), so that the band stages see what they always did.
+            rows = rows.then((d) => narrowRowWindow(d, r.fromPx, r.toPx));
+          } else rows = startRows(r.fromPx, r.toPx);
+          rows.catch(() => undefined);
         }
       : undefined;
     return { search: searchBandCoarse(dec, width, height, { source: file, onComponents }), rows };

@@ -4,7 +4,7 @@ import path from 'node:path';
 import sharp from 'sharp';
 import { afterAll, describe, expect, it } from 'vitest';
 import { srgbDecode, srgbEncode } from '../../src/core/units/srgb.js';
-import { decodeImage, decodeImageStaged, linearImageFromCodes } from '../../src/io/image.js';
+import { decodeImage, decodeImageStaged, linearImageFromCodes, narrowRowWindow } from '../../src/io/image.js';
 
 // Fixtures are generated here with sharp into a temporary folder; nothing binary is committed.
 const dir = mkdtempSync(path.join(tmpdir(), 'glowprint-image-'));
@@ -440,6 +440,27 @@ describe('decodeImageStaged(input, options) — the full decode with a 1/8-scale
     await expect(staged.rows!(10, 241)).rejects.toThrow(/rows/);
     // The whole photo is still there when asked for (decoded on first read).
     expect(Buffer.from((await staged.decoded).image.codes!).equals(Buffer.from(whole))).toBe(true);
+  });
+
+  it('narrowRowWindow(decoded, from, to): rows inside a decoded window are what rows(from, to) decodes, byte for byte, sharing its codes; rows outside it are refused', async () => {
+    const w = 320;
+    const h = 240;
+    const jpg = await sharp(smooth(w, h), { raw: { width: w, height: h, channels: 3 } }).jpeg({ quality: 90 }).toBuffer();
+    const staged = await decodeImageStaged(jpg, { wantPreview: always, rowsAfterPreview: true });
+    const wide = await staged.rows!(24, 200);
+    for (const [from, to] of [[24, 200], [30, 101], [198, 200]]) {
+      const narrow = narrowRowWindow(wide, from, to);
+      const direct = await staged.rows!(from, to);
+      expect((narrow.image as { rowWindow?: unknown }).rowWindow).toEqual({ firstRowPx: from, rowCount: to - from });
+      expect(Buffer.from(narrow.image.codes!).equals(Buffer.from(direct.image.codes!)), `rows ${from}–${to}`).toBe(true);
+      expect(narrow.image.codes!.buffer).toBe(wide.image.codes!.buffer);
+      expect([narrow.widthPx, narrow.heightPx, narrow.image.width, narrow.image.height]).toEqual([w, h, w, h]);
+      expect(() => narrow.image.data).toThrow(/only rows .* were decoded/);
+    }
+    expect(() => narrowRowWindow(wide, 20, 100)).toThrow(/rows.*24–200.*20–100/);
+    expect(() => narrowRowWindow(wide, 150, 201)).toThrow(/rows/);
+    const whole = await decodeImage(jpg);
+    expect(() => narrowRowWindow(whole, 10, 20)).toThrow(/rows/);
   });
 
   it('rowsAfterPreview offers no rows without a preview, nor for a photo stored turned (EXIF orientation 6), whose rows are not stored rows', async () => {
