@@ -102,6 +102,19 @@ export interface CalibrateOptions {
  */
 export const CALIBRATE_MATCH_DEFAULTS: Partial<MatchLinesOptions> = { seedLinesPerPeak: 4, evidence: 'windows', invisiblePeaksVeto: 3 };
 
+/**
+ * Standard uncertainty (px) of the zero order's position as the band search finds it (the centroid of its component in
+ * the coarse photo, carried to full resolution). In the 15 photos of the rendered calibration-lamp sweep where the search
+ * found it (test/core/calibration/renderedSweep.test.ts), it lay within 1 px of the renderer's; 2 px leaves room for
+ * real, bloomed spots.
+ */
+export const ZERO_ORDER_SIGHTING_SIGMA_PX = 2;
+
+/** The zero order a band search found (position along the band, px) as the matcher takes it, or null. */
+export function zeroOrderSighting(zeroOrderPx: number | undefined): { positionPx: number; uncertaintyPx: number } | null {
+  return zeroOrderPx !== undefined && Number.isFinite(zeroOrderPx) ? { positionPx: zeroOrderPx, uncertaintyPx: ZERO_ORDER_SIGHTING_SIGMA_PX } : null;
+}
+
 export const CALIBRATE_DEFAULTS: CalibrateOptions = {
   pairs: [],
   match: CALIBRATE_MATCH_DEFAULTS,

@@ -84,6 +84,17 @@ export interface MatchLinesOptions {
    * uncertainty. @default 'tolerance'
    */
   evidence: 'tolerance' | 'windows';
+  /**
+   * The zero order seen in the photo (position along the band, px, and its centroid's standard uncertainty), or null.
+   * A first-order grating scale reads 0 nm there; a solution whose physical model puts it there gains that agreement
+   * as evidence (zeroOrderAgreement). @default null
+   */
+  zeroOrder: ZeroOrderSighting | null;
+}
+
+export interface ZeroOrderSighting {
+  positionPx: number;
+  uncertaintyPx: number;
 }
 
 export const MATCH_LINES_DEFAULTS: MatchLinesOptions = {
@@ -104,6 +115,7 @@ export const MATCH_LINES_DEFAULTS: MatchLinesOptions = {
   grating: null,
   invisiblePeaksVeto: 0,
   evidence: 'tolerance',
+  zeroOrder: null,
 };
 
 export interface LineMatch {
@@ -290,6 +302,8 @@ export function matchLines(
       const gDense = withGratingModel(ctx, solutions[i], o.grating, 'densest');
       const g = gAll && gDense ? (gAll.score.log10Chance <= gDense.score.log10Chance ? gAll : gDense) : (gAll ?? gDense);
       if (!g) continue;
+      // A polynomial solution has no zero order; its grating twin may put it where the photo shows it.
+      if (o.zeroOrder) withZeroOrder(g, o.zeroOrder, o.dispersionNmPerPx);
       const veto = gDense ? gDense.vetoed : [];
       if (g.score.log10Chance < solutions[i].score.log10Chance || significant(g)) {
         solutions[i] = g;
@@ -311,9 +325,16 @@ export function matchLines(
   }
   for (let i = 0; i < solutions.length; i++) solutions[i] = vetoInvisible(ctx, solutions[i]);
   solutions.sort(byScore);
+  // The zero order's agreement is evidence of its own; with a zero order given, a scale may pass by the lines alone or
+  // by lines and zero order: two tests, so the trials double (Bonferroni).
+  if (o.zeroOrder) {
+    for (const sol of solutions) withZeroOrder(sol, o.zeroOrder, o.dispersionNmPerPx);
+    solutions.sort(byScore);
+  }
+  const trialsLog10 = log10Trials + (o.zeroOrder ? Math.LOG10E * Math.LN2 : 0);
   for (const sol of solutions) {
-    sol.score.log10Trials = log10Trials;
-    sol.score.falseMatchProbability = Math.min(1, 10 ** (sol.score.log10Chance - sol.score.log10Multiplicity + log10Trials));
+    sol.score.log10Trials = trialsLog10;
+    sol.score.falseMatchProbability = Math.min(1, 10 ** (sol.score.log10Chance - sol.score.log10Multiplicity + trialsLog10));
   }
   const best = solutions[0];
   const centre = (best.pairs[0].x + best.pairs[best.pairs.length - 1].x) / 2;
@@ -372,6 +393,55 @@ export function matchLines(
     solutionsGrown: grown,
     warnings,
   };
+}
+
+/** Agreement within this many standard deviations of the predicted and seen zero order counts. */
+const ZERO_ORDER_SIGMA = 3;
+
+/**
+ * How a solution's physical model agrees with the zero order seen in the photo, or null when it does not (or has no
+ * physical model). A first-order grating scale λ(x) = d (sin θi + sin(θc + atan(s (x − x0)/f))) with θi = 0 reads 0 nm
+ * where θc + atan(s (x − x0)/f) = 0, at x̂ = x0 − s f tan θc, with the standard uncertainty of the model's covariance
+ * (θc, x0 and f; f and x0 under their priors from the photo) and that of the sighting. They agree within
+ * ZERO_ORDER_SIGMA of both, a window of half-width t.
+ *
+ * Chance of that agreement for a scale unrelated to the lamp: such a scale's zero order lies about λc/D from the
+ * matched lines (λc their central wavelength, D the dispersion), and the search takes D anywhere in its range
+ * [Dlo, Dhi]; for D spread evenly in log D, the distance s to the zero order has density 1/(s ln(Dhi/Dlo)), so a
+ * window of 2t at the distance seen holds it with probability 2t/(s ln(Dhi/Dlo)). Counted twice that (chance
+ * solutions need not spread evenly), and never above 1. The agreement is independent of the line matches: the
+ * zero order takes no part in them.
+ */
+function zeroOrderAgreement(
+  sol: Solution,
+  zero: ZeroOrderSighting,
+  dispersionNmPerPx: [number, number],
+): MatchScore['zeroOrder'] | null {
+  const m = sol.model;
+  if (m.kind !== 'grating' || m.order !== 1 || m.incidenceAngleDeg !== 0 || sol.pairs.length < 2) return null;
+  const rad = Math.PI / 180;
+  const th = m.cameraAngleDeg * rad;
+  const sec2 = 1 / Math.cos(th) ** 2;
+  const predictedPx = m.axisPositionPx - m.direction * m.focalLengthPx * Math.tan(th);
+  // ∂x̂/∂[d, θc (deg), x0, f].
+  const J = [0, -m.direction * m.focalLengthPx * sec2 * rad, 1, -m.direction * Math.tan(th)];
+  let variance = zero.uncertaintyPx ** 2;
+  for (let a = 0; a < 4; a++) for (let b = 0; b < 4; b++) variance += J[a] * m.covariance[a][b] * J[b];
+  const halfWidthPx = ZERO_ORDER_SIGMA * Math.sqrt(variance);
+  if (!(Math.abs(predictedPx - zero.positionPx) <= halfWidthPx)) return null;
+  const centre = 0.5 * (sol.pairs[0].x + sol.pairs[sol.pairs.length - 1].x);
+  const distancePx = Math.abs(zero.positionPx - centre);
+  const logRange = Math.log(dispersionNmPerPx[1] / dispersionNmPerPx[0]);
+  const probability = Math.min(1, (2 * 2 * halfWidthPx) / (distancePx * logRange));
+  return { predictedPx, halfWidthPx, log10Probability: Math.log10(probability) };
+}
+
+/** Counts the zero order's agreement in the solution's score, once. */
+function withZeroOrder(sol: Solution, zero: ZeroOrderSighting, dispersionNmPerPx: [number, number]): void {
+  if (sol.score.zeroOrder) return;
+  const z = zeroOrderAgreement(sol, zero, dispersionNmPerPx);
+  if (!z) return;
+  sol.score = { ...sol.score, zeroOrder: z, log10Chance: sol.score.log10Chance + z.log10Probability };
 }
 
 /**
@@ -558,7 +628,9 @@ function noMatchMessage(peaks: number, lines: number, s: MatchScore | null): str
   return (
     `the lamp's lines do not match the peaks: the best assignment matches ${s.matched} of ${s.peaksInRange} peaks, ` +
     `where chance alone gives ${s.expectedByChance.toFixed(1)}; among the 1e${s.log10Trials.toFixed(1)} scales tried, chance ` +
-    `does as well with probability ${formatProbability(s.falseMatchProbability)}; ` +
+    `does as well with probability ${formatProbability(s.falseMatchProbability)}` +
+    (s.zeroOrder ? ` (the zero order where this scale puts it counted in)` : '') +
+    '; ' +
     'wrong lamp, or too few of its lines visible; check --lamp or give --pairs'
   );
 }

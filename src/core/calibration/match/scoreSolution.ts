@@ -53,6 +53,11 @@ export interface MatchScore {
   rmsPx: number;
   /** Which model the score was computed with. */
   model: 'polynomial' | 'grating';
+  /**
+   * With a zero order seen in the photo and a physical model that puts it there: where (px), within what half-width
+   * (px), and log10 of the chance of that agreement, already included in log10Chance (see zeroOrderAgreement).
+   */
+  zeroOrder?: { predictedPx: number; halfWidthPx: number; log10Probability: number };
 }
 
 /**
