@@ -330,19 +330,19 @@ async function coarseFromPreview(
   try {
     const { width, height } = { width: preview.image.width * preview.scale, height: preview.image.height * preview.scale };
     const d = FIND_BAND_DEFAULTS;
-    const dec = decimatePreview(preview.image, preview.scale, width, height, d.coarseMaxSidePx, d.saturationLevel);
     const startRows = staged.rows;
-    // The band's rows are decoded while the coarse search runs: from a guess made on the coarse image at once
+    // The band's rows are decoded while the coarse search runs: from a guess made on the preview at once
     // (guessBandRows), kept when it covers the rows the coarse band needs (bandRows) and narrowed to them, so that the
     // band stages read (and miss, RowWindowMiss) exactly the rows they always did; else those rows are decoded as
     // soon as the coarse components are known and the decode runs while the coarse band is refined on the coarse
     // image (bandRows' margins hold the refinement's few pixels of change: measured 3–15 px at the window's edges
     // against margins of 2 H + 48 px).
-    const guess = startRows ? guessBandRows(dec.planes, dec.width, dec.height, dec.factor, height) : null;
+    const guess = startRows ? guessBandRows(preview.image, preview.scale, height) : null;
     if (guess && startRows) {
       rows = startRows(guess.fromPx, guess.toPx);
       rows.catch(() => undefined); // awaited after the search, if that succeeds
     }
+    const dec = decimatePreview(preview.image, preview.scale, width, height, d.coarseMaxSidePx, d.saturationLevel);
     const onComponents = startRows
       ? (c: CoarseBand): void => {
           const r = bandRows(c.band, c.memberEnds, height);

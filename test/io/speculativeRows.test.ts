@@ -1,14 +1,14 @@
 /**
- * The guess of a large JPEG's band rows made on its coarse image before the coarse search has run
+ * The guess of a large JPEG's band rows made on its preview before the coarse search has run
  * (guessBandRows, src/core/spectrum/band/rowWindow.ts): `glowprint spectrum` starts decoding those rows at once and keeps
  * them when they cover the rows the coarse band asks for (bandRows), so the guess must cover them on the photos the
  * band search is made for, without taking much of the photo more, and say nothing when nothing stands out.
  */
 import { describe, expect, it } from 'vitest';
-import { decimate } from '../../src/core/spectrum/band/decimate.js';
+import { type Decimated, decimate } from '../../src/core/spectrum/band/decimate.js';
 import { bandRows, guessBandRows } from '../../src/core/spectrum/band/rowWindow.js';
 import { FIND_BAND_DEFAULTS, searchBandCoarse } from '../../src/core/spectrum/findBand.js';
-import type { BandGeometry } from '../../src/core/types.js';
+import type { BandGeometry, LinearImage } from '../../src/core/types.js';
 import { type BandImageSpec, renderBandImage } from '../helpers/bandImage.js';
 
 const W = 2000;
@@ -57,11 +57,19 @@ function render(c: Case) {
   }).image;
 }
 
-describe('guessBandRows(planes, width, height, factor, heightPx, options)', () => {
+/** The decimated planes as one interleaved RGB image, the form of a decoder's preview. */
+function interleaved(dec: Decimated): LinearImage {
+  const n = dec.width * dec.height;
+  const data = new Float32Array(3 * n);
+  for (let i = 0; i < n; i++) for (let c = 0; c < 3; c++) data[3 * i + c] = dec.planes[c][i];
+  return { width: dec.width, height: dec.height, channels: 3, data };
+}
+
+describe('guessBandRows(image, factor, heightPx, options)', () => {
   for (const c of cases) {
     it(`covers the rows bandRows asks for after the coarse search, and at most ~1.7× as many (${c.name})`, () => {
       const dec = decimate(render(c), FACTOR, FIND_BAND_DEFAULTS.saturationLevel);
-      const guess = guessBandRows(dec.planes, dec.width, dec.height, dec.factor, H);
+      const guess = guessBandRows(interleaved(dec), dec.factor, H);
       let exact: { fromPx: number; toPx: number } | undefined;
       searchBandCoarse(dec, W, H, { onComponents: (coarse) => void (exact = bandRows(coarse.band, coarse.memberEnds, H)) });
       expect(guess).not.toBeNull();
@@ -85,7 +93,7 @@ describe('guessBandRows(planes, width, height, factor, heightPx, options)', () =
       seed: 5,
     }).image;
     const dec = decimate(blank, FACTOR, FIND_BAND_DEFAULTS.saturationLevel);
-    expect(guessBandRows(dec.planes, dec.width, dec.height, dec.factor, H)).toBeNull();
-    expect(guessBandRows([new Float32Array(35)], 7, 5, 8, 40)).toBeNull();
+    expect(guessBandRows(interleaved(dec), dec.factor, H)).toBeNull();
+    expect(guessBandRows({ width: 7, height: 5, channels: 1, data: new Float32Array(35) }, 8, 40)).toBeNull();
   });
 });

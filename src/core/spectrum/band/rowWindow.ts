@@ -108,9 +108,10 @@ export interface GuessBandRowsOptions {
 export const GUESS_BAND_ROWS_DEFAULTS = { strips: 16, peakSigma: 12, maxTiltDeg: 25, relativePeak: 0.02, heightMultiple: 2, tenthMultiple: 1.6, extraPx: 80 } as const satisfies Required<GuessBandRowsOptions>;
 
 /**
- * A cheap guess (~1 ms on a 500 × 375 coarse image), from the coarse image alone, of the rows bandRows will ask for
+ * A cheap guess (~1 ms on a 500 × 375 preview), from a reduced image of the photo alone (a decoder's preview, or
+ * a decimated copy; any channels), of the rows bandRows will ask for
  * once the coarse search has found the band: for a caller that starts decoding rows while the search runs.
- * The coarse image is cut into vertical strips; in each, the light of each row summed over the strip is a profile
+ * The image is cut into vertical strips; in each, the light of each row summed over the strip is a profile
  * across the band. A quadratic in the row fitted to it robustly is the ambient (gradient, vignetting; the band's rows
  * get no weight) and is taken off. A strip whose profile peaks clearly (noise from neighbouring-row differences),
  * falling to half on both sides within a quarter of the photo, gives the band's centre row there (the midpoint of the
@@ -122,16 +123,15 @@ export const GUESS_BAND_ROWS_DEFAULTS = { strips: 16, peakSigma: 12, maxTiltDeg:
  * heights 20–480 px, a continuum, zero orders) it covered bandRows every time, with 1.2–2.1× its rows. It can still be
  * wrong (glare brighter than the band along a line of its own): the caller checks it against bandRows and decodes the
  * right rows when it does not cover them. Null when no strip stands out.
- * `factor`: full-resolution px per coarse px (the block (X, Y) is centred on (f·X + (f − 1)/2, f·Y + (f − 1)/2)).
+ * `factor`: full-resolution px per pixel of `image` (its pixel (X, Y) is centred on (f·X + (f − 1)/2, f·Y + (f − 1)/2)).
  */
 export function guessBandRows(
-  planes: Float32Array[],
-  width: number,
-  height: number,
+  image: Pick<LinearImage, 'width' | 'height' | 'channels' | 'data'>,
   factor: number,
   heightPx: number,
   options: GuessBandRowsOptions = {},
 ): { fromPx: number; toPx: number } | null {
+  const { width, height, channels: C, data } = image;
   const d = GUESS_BAND_ROWS_DEFAULTS;
   const K = Math.max(1, Math.min(options.strips ?? d.strips, Math.floor(width / 8)));
   const peakSigma = options.peakSigma ?? d.peakSigma;
@@ -145,7 +145,8 @@ export function guessBandRows(
   const profiles = new Float64Array(K * height);
   const edges = new Int32Array(K + 1);
   for (let k = 0; k <= K; k++) edges[k] = Math.floor((k * width) / K);
-  for (const plane of planes) for (let Y = 0; Y < height; Y++) addRowByStrip(plane, Y * width, edges, K, profiles, height, Y);
+  for (let k = 0; k <= K; k++) edges[k] *= C; // channels interleaved: a strip's values are contiguous in a row
+  for (let Y = 0; Y < height; Y++) addRowByStrip(data, Y * width * C, edges, K, profiles, height, Y);
   const scratch = new Float64Array(height);
   const f = factor;
   const found: Array<{ x: number; y: number; runPx: number; halfWidthPx: number; peak: number }> = [];
