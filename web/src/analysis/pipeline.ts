@@ -16,7 +16,8 @@ export interface SpectrumCapture {
   kind: 'photo' | 'csv' | 'camera';
   /** Size of the (upright) image the band lives in; null for a CSV spectrum. */
   image: { widthPx: number; heightPx: number } | null;
-  band: (BandGeometry & { source: 'found' | 'manual' }) | null;
+  /** zeroOrderPx: where along the band the zero order lies that the band search found and left out (as spectrum --json). */
+  band: (BandGeometry & { source: 'found' | 'manual'; zeroOrderPx?: number }) | null;
   spectrum: Spectrum;
   peaks: Peak[];
   /** Noise σ and detection threshold of the peak search. */
@@ -45,6 +46,7 @@ export function analyseImage(image: LinearImage, options: AnalyseImageOptions): 
   let band: BandGeometry;
   let bandSource: 'found' | 'manual';
   let extraction: ExtractSpectrumOptions = {};
+  let zeroOrderPx: number | undefined;
   if (options.band) {
     band = options.band;
     bandSource = 'manual';
@@ -53,6 +55,7 @@ export function analyseImage(image: LinearImage, options: AnalyseImageOptions): 
     band = { ...found.band, center: { x: found.band.center.x + origin.x, y: found.band.center.y + origin.y } };
     bandSource = 'found';
     extraction = found.extraction;
+    zeroOrderPx = found.diagnostics.zeroOrder?.positionPx;
     warnings.push(...found.warnings);
   }
   const local: BandGeometry = { ...band, center: { x: band.center.x - origin.x, y: band.center.y - origin.y } };
@@ -64,7 +67,7 @@ export function analyseImage(image: LinearImage, options: AnalyseImageOptions): 
     sourceName: options.sourceName,
     kind: options.kind,
     image: options.frame ?? { widthPx: image.width, heightPx: image.height },
-    band: { ...band, source: bandSource },
+    band: { ...band, source: bandSource, ...(zeroOrderPx !== undefined ? { zeroOrderPx } : {}) },
     spectrum: extracted.spectrum,
     peaks: search.peaks,
     noise: search.noise,

@@ -3,7 +3,7 @@
  * the fit into an instrument profile (the same JSON format as `glowprint calibrate --out`), and applying a profile to
  * a spectrum and its peaks. All of it is the core's (src/core/calibration); this file only wires it to a capture.
  */
-import { calibrateFromPeaks, gratingPriors, type CalibrationResult } from '../../../src/core/calibration/calibrate.js';
+import { calibrateFromPeaks, gratingPriors, type CalibrationResult, zeroOrderSighting } from '../../../src/core/calibration/calibrate.js';
 import { calibrationLampLines } from '../../../src/core/calibration/calibrationLines.js';
 import type { DispersionFit, ModelChoice } from '../../../src/core/calibration/fitDispersion.js';
 import type { ManualPair } from '../../../src/core/calibration/matchLines.js';
@@ -63,6 +63,8 @@ export function calibrateCapture(capture: SpectrumCapture, options: CalibrateCap
   const spec = options.lamp;
   const calibration = calibrateFromPeaks(capture.peaks, lines, {
     pairs: options.pairs,
+    // The zero order the band search found is the 0 nm point of the first-order scale (as glowprint calibrate).
+    match: { zeroOrder: zeroOrderSighting(capture.band?.zeroOrderPx) },
     fit: { model: options.model, grating },
     linesAtResolution: spec ? (resolutionNm) => calibrationLampLines(spec, lampCatalog(), resolutionNm).lines : null,
   });
