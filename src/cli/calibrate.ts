@@ -13,6 +13,9 @@ earth phosphor peaks of a fluorescent tube), any element of the line list, laser
 wavelength), laser:<name>, or a line-list file (NIST ASD export or CSV of wavelength_nm,intensity,spectrum).
 Lines are matched to the peaks automatically; --pairs gives known pairs as position_px=wavelength_nm, alone or with
 a lamp (e.g. --pairs "812.4=546.074,1040.2=611.6"). A lamp that does not match is an error, never a guessed scale.
+Keep the zero order (the undispersed spot of the lamp) in the frame when the lens allows: it is the 0 nm point of
+the first order, and a scale whose grating model puts it there gains that agreement as evidence (the summary says
+when it counted).
 
 Models (--model): poly — polynomial of degree 1–4, chosen by AICc (or --degree); grating — the physical model of
 grating and camera, λ = (d/m)(sin θi + sin(θc + atan((x − x0)/f))), which also gives the grating's lines/mm; auto

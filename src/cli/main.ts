@@ -18,6 +18,11 @@ export function buildProgram(): Command {
 }
 
 async function main(): Promise<void> {
+  // A reader that stops early (`glowprint calibrate --help | head`) closes the pipe: that ends the output, not in error.
+  process.stdout.on('error', (err: NodeJS.ErrnoException) => {
+    if (err.code !== 'EPIPE') throw err;
+    process.exit(process.exitCode ?? 0);
+  });
   const program = buildProgram();
   try {
     await program.parseAsync(process.argv);
