@@ -5,7 +5,7 @@
  */
 import path from 'node:path';
 import { existsSync, statSync } from 'node:fs';
-import { calibrateFromPeaks, gratingPriors, type CalibrationResult } from '../core/calibration/calibrate.js';
+import { calibrateFromPeaks, gratingPriors, type CalibrationResult, zeroOrderSighting } from '../core/calibration/calibrate.js';
 import type { DispersionFit } from '../core/calibration/fitDispersion.js';
 import type { ManualPair } from '../core/calibration/matchLines.js';
 import { calibrationLampLines } from '../core/calibration/calibrationLines.js';
@@ -186,6 +186,15 @@ export function calibrateReport(
           falseMatchProbability: match.score.falseMatchProbability,
           tolerancePx: match.score.tolerancePx,
           scoredWith: match.score.model,
+          ...(match.score.zeroOrder
+            ? {
+                zeroOrder: {
+                  predictedPx: match.score.zeroOrder.predictedPx,
+                  agreementHalfWidthPx: match.score.zeroOrder.halfWidthPx,
+                  chanceOfAgreement: 10 ** match.score.zeroOrder.log10Probability,
+                },
+              }
+            : {}),
         }
       : null,
     modelSelection: fit.candidates.map((c) => ({ ...c, criterionName: fit.criterion })),
@@ -223,6 +232,13 @@ export function formatCalibrateReport(r: CalibrateReport): string {
         `${r.match.secondOrder ? ` and ${r.match.secondOrder} on their order-2 images` : ''} (chance alone: ${(r.match.expectedByChance as number).toFixed(1)}; ` +
         `false-match bound ${(r.match.falseMatchProbability as number).toExponential(1)})`,
     );
+    const z = r.match.zeroOrder as { predictedPx: number; agreementHalfWidthPx: number; chanceOfAgreement: number } | undefined;
+    if (z) {
+      out.push(
+        `zero order: the scale puts 0 nm at ${z.predictedPx.toFixed(1)} px, where the photo shows it (±${z.agreementHalfWidthPx.toFixed(1)} px; ` +
+          `chance of that agreement ${z.chanceOfAgreement.toExponential(1)}, counted in the bound)`,
+      );
+    }
   }
   out.push('');
   out.push('position_px   wavelength_nm   fitted_nm   residual_nm  used  line');
@@ -273,7 +289,8 @@ export async function runCalibrate(input: string, opts: CalibrateOptions): Promi
   const modelChoice = opts.model === 'poly' ? 'polynomial' : opts.model;
   const result = calibrateFromPeaks(analysis.peaks, lamp ? lamp.lines : null, {
     pairs,
-    match: { direction: opts.direction },
+    // A zero order in the photo is the 0 nm point of a first-order scale: evidence for the scale that puts it there.
+    match: { direction: opts.direction, zeroOrder: order === 1 ? zeroOrderSighting(analysis.band?.zeroOrderPx) : null },
     linesAtResolution: opts.lamp ? (resolutionNm) => calibrationLines(opts.lamp!, resolutionNm).lines : null,
     fit: {
       model: modelChoice,

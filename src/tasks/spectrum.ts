@@ -53,6 +53,11 @@ export type BandSummary = BandGeometry & {
   /** Standard uncertainties of a found band's axis angle and slant (deg). */
   angleUncertaintyDeg?: number;
   slantUncertaintyDeg?: number | null;
+  /**
+   * Where along the band (px from its start, often beyond either end) the zero order lies that the band search found
+   * on the band's axis and left out; absent when it found none. A first-order calibration reads 0 nm there.
+   */
+  zeroOrderPx?: number;
 };
 
 export interface SpectrumInputSummary {
@@ -161,8 +166,12 @@ async function measureSpectrum(file: string, options: AnalyseSpectrumOptions): P
   const { found, band, extracted } = measured;
   const warnings = [...decoded.warnings, ...measured.bandWarnings];
   const bandSource: 'found' | 'manual' = found === null ? 'manual' : 'found';
-  const uncertainties: Pick<BandSummary, 'angleUncertaintyDeg' | 'slantUncertaintyDeg'> = found
-    ? { angleUncertaintyDeg: found.diagnostics.angleUncertaintyDeg, slantUncertaintyDeg: found.diagnostics.slantUncertaintyDeg }
+  const uncertainties: Pick<BandSummary, 'angleUncertaintyDeg' | 'slantUncertaintyDeg' | 'zeroOrderPx'> = found
+    ? {
+        angleUncertaintyDeg: found.diagnostics.angleUncertaintyDeg,
+        slantUncertaintyDeg: found.diagnostics.slantUncertaintyDeg,
+        ...(found.diagnostics.zeroOrder ? { zeroOrderPx: found.diagnostics.zeroOrder.positionPx } : {}),
+      }
     : {};
   const spectrum = extracted.spectrum;
   warnings.push(...extracted.warnings);
