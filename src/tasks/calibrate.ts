@@ -128,7 +128,17 @@ function modelSummary(fit: DispersionFit, focalLengthSource: string): Record<str
 /** Builds the report; in vacuum mode wavelengths (reference, fitted, range) are converted from air by Ciddor (1996). */
 export function calibrateReport(
   result: CalibrationResult,
-  context: { input: CalibrateReport['input']; lamp: string | null; lampLines: number; vacuum: boolean; focalLengthSource: string; profile: string | null; warnings: string[] },
+  context: {
+    input: CalibrateReport['input'];
+    lamp: string | null;
+    lampLines: number;
+    vacuum: boolean;
+    focalLengthSource: string;
+    profile: string | null;
+    warnings: string[];
+    /** Where the band search saw the zero order (px along the band), when it did and the matcher was given it. */
+    zeroOrderSeenPx?: number;
+  },
 ): CalibrateReport {
   const { fit, match } = result;
   const conv = (l: number) => (context.vacuum ? airToVacuumNm(l) : l);
@@ -186,12 +196,18 @@ export function calibrateReport(
           falseMatchProbability: match.score.falseMatchProbability,
           tolerancePx: match.score.tolerancePx,
           scoredWith: match.score.model,
-          ...(match.score.zeroOrder
+          ...(context.zeroOrderSeenPx !== undefined
             ? {
                 zeroOrder: {
-                  predictedPx: match.score.zeroOrder.predictedPx,
-                  agreementHalfWidthPx: match.score.zeroOrder.halfWidthPx,
-                  chanceOfAgreement: 10 ** match.score.zeroOrder.log10Probability,
+                  seenPx: context.zeroOrderSeenPx,
+                  counted: match.score.zeroOrder !== undefined,
+                  ...(match.score.zeroOrder
+                    ? {
+                        predictedPx: match.score.zeroOrder.predictedPx,
+                        agreementHalfWidthPx: match.score.zeroOrder.halfWidthPx,
+                        chanceOfAgreement: 10 ** match.score.zeroOrder.log10Probability,
+                      }
+                    : {}),
                 },
               }
             : {}),
@@ -232,11 +248,18 @@ export function formatCalibrateReport(r: CalibrateReport): string {
         `${r.match.secondOrder ? ` and ${r.match.secondOrder} on their order-2 images` : ''} (chance alone: ${(r.match.expectedByChance as number).toFixed(1)}; ` +
         `false-match bound ${(r.match.falseMatchProbability as number).toExponential(1)})`,
     );
-    const z = r.match.zeroOrder as { predictedPx: number; agreementHalfWidthPx: number; chanceOfAgreement: number } | undefined;
-    if (z) {
+    const z = r.match.zeroOrder as
+      | { seenPx: number; counted: boolean; predictedPx?: number; agreementHalfWidthPx?: number; chanceOfAgreement?: number }
+      | undefined;
+    if (z?.counted) {
       out.push(
-        `zero order: the scale puts 0 nm at ${z.predictedPx.toFixed(1)} px, where the photo shows it (±${z.agreementHalfWidthPx.toFixed(1)} px; ` +
-          `chance of that agreement ${z.chanceOfAgreement.toExponential(1)}, counted in the bound)`,
+        `zero order: seen at ${z.seenPx.toFixed(1)} px, where the scale puts 0 nm (${z.predictedPx!.toFixed(1)} ± ${z.agreementHalfWidthPx!.toFixed(1)} px); ` +
+          `chance of that agreement ${z.chanceOfAgreement!.toExponential(1)}, counted in the bound`,
+      );
+    } else if (z) {
+      out.push(
+        `zero order: seen at ${z.seenPx.toFixed(1)} px, but this scale does not put 0 nm there (a grating not square to the light, ` +
+          'or the spot is no zero order): not counted',
       );
     }
   }
@@ -287,10 +310,11 @@ export async function runCalibrate(input: string, opts: CalibrateOptions): Promi
   const bandGeometry = analysis.band ? stripBand(analysis.band) : null;
   const priors = gratingPriors({ image, band: bandGeometry, focalLength35mmMm: analysis.input.exif?.focalLength35mmMm, focalLengthPx });
   const modelChoice = opts.model === 'poly' ? 'polynomial' : opts.model;
+  // A zero order in the photo is the 0 nm point of a first-order scale: evidence for the scale that puts it there.
+  const zeroOrder = order === 1 ? zeroOrderSighting(analysis.band?.zeroOrderPx) : null;
   const result = calibrateFromPeaks(analysis.peaks, lamp ? lamp.lines : null, {
     pairs,
-    // A zero order in the photo is the 0 nm point of a first-order scale: evidence for the scale that puts it there.
-    match: { direction: opts.direction, zeroOrder: order === 1 ? zeroOrderSighting(analysis.band?.zeroOrderPx) : null },
+    match: { direction: opts.direction, zeroOrder },
     linesAtResolution: opts.lamp ? (resolutionNm) => calibrationLines(opts.lamp!, resolutionNm).lines : null,
     fit: {
       model: modelChoice,
@@ -321,6 +345,7 @@ export async function runCalibrate(input: string, opts: CalibrateOptions): Promi
     focalLengthSource: priors.focalLengthSource,
     profile: opts.out ?? null,
     warnings,
+    ...(zeroOrder ? { zeroOrderSeenPx: zeroOrder.positionPx } : {}),
   });
   return { report, profile };
 }

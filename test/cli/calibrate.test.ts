@@ -3,6 +3,7 @@ import os from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { applyProfileToPeaks } from '../../src/core/calibration/profile.js';
+import { imageToBandPx } from '../../src/core/spectrum/band/frame.js';
 import { airToVacuumNm } from '../../src/core/units/airVacuum.js';
 import { readProfile } from '../../src/io/profileFile.js';
 import { analyseSpectrumInput } from '../../src/tasks/spectrum.js';
@@ -77,6 +78,19 @@ describe('glowprint calibrate <photo> --lamp fluorescent (the demo rig: 1000 lin
     expect(Math.abs(lpm - truth.rig.lines_per_mm) / truth.rig.lines_per_mm).toBeLessThanOrEqual(0.003);
     expect(out.lines_per_mm_uncertainty as number).toBeGreaterThan(0);
     expect((out.model as Record<string, unknown>).focal_length_source).toBe('exif');
+  });
+
+  it('counts the zero order, seen where the renderer drew it, which the scale puts there too', async () => {
+    // Truth: the renderer's zero order of the calibration photo (data/demo/truth.json), in the found band's frame.
+    const photo = truth.photos.find((p) => p.file === 'cfl-calibration.jpg') as unknown as { zero_order: { image_px: { x: number; y: number } } };
+    const band = (await readProfile(profileFile)).band!;
+    const truthPx = imageToBandPx(band, photo.zero_order.image_px).positionPx;
+    const z = (out.match as Record<string, unknown>).zero_order as Record<string, number | boolean>;
+    expect(Math.abs((z.seen_px as number) - truthPx)).toBeLessThanOrEqual(2);
+    expect(z.counted).toBe(true);
+    expect(Math.abs((z.predicted_px as number) - (z.seen_px as number))).toBeLessThanOrEqual(z.agreement_half_width_px as number);
+    expect(z.chance_of_agreement as number).toBeGreaterThan(0);
+    expect(z.chance_of_agreement as number).toBeLessThan(0.1);
   });
 
   it('saves a profile that measures other lamps\' lines to ≤ 0.15 nm RMS (tubes A, C, E of the demo)', async () => {
