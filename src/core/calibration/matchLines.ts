@@ -7,6 +7,7 @@ import { growSolution, type GrownSolution, refineSolution } from './match/growSo
 import { fitPairs, fitPairsParsimonious, residualPx } from './match/quickFit.js';
 import { countTrialsLog10, type MatchScore, scoreSolution, secondOrderPairs } from './match/scoreSolution.js';
 import { tripletSeeds } from './match/tripletSeeds.js';
+import { zeroOrderSeeds } from './match/zeroOrderSeeds.js';
 import { dispersionAtNmPerPx, wavelengthAtNm, type DispersionModel } from './model.js';
 import { modelSigmaNm } from './uncertainty.js';
 import type { WeightedPoint } from './polynomialModel.js';
@@ -195,6 +196,36 @@ export function matchLines(
   lines: readonly SpectralLine[],
   options: Partial<MatchLinesOptions> = {},
 ): MatchResult {
+  const first = searchLines(peaks, lines, options, 'triplets');
+  const o: MatchLinesOptions = { ...MATCH_LINES_DEFAULTS, ...options };
+  if (first.accepted || !o.zeroOrder || o.pairs.length >= 2 || !o.grating?.focalLengthPx || !o.grating?.axisPositionPx) return first;
+  // Declined: search again from the zero order's seeds (zeroOrderSeeds.ts). Their scales belong to the family the
+  // first search counted as its trials, so the bound is the same kind; a solution found so is taken only when it is
+  // significant and the first search's best, if it maps the peaks differently, is no close rival to it.
+  const again = searchLines(peaks, lines, options, 'zeroOrder');
+  if (!again.accepted || !again.score || !again.model) return first;
+  if (first.score && first.model) {
+    const evidence = (s: MatchScore) => s.log10Chance - s.log10Multiplicity;
+    const centre = (again.matches[0].positionPx + again.matches[again.matches.length - 1].positionPx) / 2;
+    const d = Math.abs(dispersionAtNmPerPx(again.model, centre));
+    const differs = Math.abs(wavelengthAtNm(first.model, centre) - wavelengthAtNm(again.model, centre)) > 3 * again.score.tolerancePx * d;
+    if (differs && evidence(first.score) - evidence(again.score) < MIN_RUNNER_UP_MARGIN) return first;
+  }
+  return {
+    ...again,
+    hypothesesTested: first.hypothesesTested + again.hypothesesTested,
+    solutionsGrown: first.solutionsGrown + again.solutionsGrown,
+    warnings: [...first.warnings.filter((w) => !again.warnings.includes(w)), ...again.warnings],
+  };
+}
+
+/** The search of matchLines, seeded by spacing-ratio triplets or by the zero order (zeroOrderSeeds.ts). */
+function searchLines(
+  peaks: readonly Peak[],
+  lines: readonly SpectralLine[],
+  options: Partial<MatchLinesOptions>,
+  seedsFrom: 'triplets' | 'zeroOrder',
+): MatchResult {
   const o: MatchLinesOptions = { ...MATCH_LINES_DEFAULTS, ...options };
   checkOptions(o);
   const warnings: string[] = [];
@@ -265,6 +296,10 @@ export function matchLines(
   let hypothesesTested = 0;
   if (manual.length >= 2) {
     seeds = [[]];
+  } else if (seedsFrom === 'zeroOrder' && o.zeroOrder && o.grating?.focalLengthPx && o.grating?.axisPositionPx) {
+    const h = zeroOrderSeeds(ctx, o.zeroOrder, o.grating.focalLengthPx.value, o.grating.axisPositionPx.value);
+    hypothesesTested = h.tested;
+    seeds = h.seeds;
   } else {
     const h = tripletSeeds(ctx);
     hypothesesTested = h.tested;

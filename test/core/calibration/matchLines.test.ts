@@ -198,17 +198,20 @@ describe('matchLines(peaks, lines) on a seeded sweep of synthetic instruments', 
 
 describe('matchLines with the zero order seen in the photo, on the same seeded sweep', () => {
   // The same 40 cases of each lamp, given the zero order where it lies in the frame (the truth's 0 nm point, 1 px off),
-  // as the band search reports it; a solution whose grating model puts it there counts that agreement as evidence
-  // (zeroOrderAgreement). In 16–25 of each lamp's 40 cases it lies in the frame. Measured (right / wrong / declined):
-  // Xe 40/0/0, fluorescent 38/0/2, Ar 37/0/3 → 39/0/1, Ne+Hg 34/0/6 → 35/0/5, Ne 33/0/7 → 34/0/6: pooled 182 → 186
-  // of 200 (93 %), none wrong. With order-2 images added: Ar 33 → 37, Ne+Hg 33 → 34, Ne 31 → 32 (its one wrong case,
-  // without the zero order too, stays). Floors: each lamp's measurement, less one case.
+  // as the band search reports it. A solution whose grating model puts it there counts that agreement as evidence
+  // (zeroOrderAgreement), and a declined search is tried again from the zero order's own seeds (zeroOrderSeeds.ts).
+  // In 16–25 of each lamp's 40 cases it lies in the frame. Measured (right / wrong / declined), without → with:
+  // Xe 40/0/0 → 40/0/0, fluorescent 38/0/2 → 38/0/2, Ar 37/0/3 → 39/0/1, Ne+Hg 34/0/6 → 36/0/4, Ne 33/0/7 → 35/0/5:
+  // pooled 182 → 188 of 200 (94 %), none wrong; the agreement alone gave 186, and seeding from the zero order in the
+  // first search (before the triplets) 184 (it cost Xe and Ar cases their ranking). Of the 12 still declined, 6 show
+  // no zero order. With order-2 images added: Xe 39, fluorescent 38, Ar 33 → 38, Ne+Hg 33 → 36, Ne 31 → 34 (its one
+  // wrong case, without the zero order too, stays). Floors: each lamp's measurement, less one case.
   const floors: Array<[string, number]> = [
     ['Xe', 39],
     ['fluorescent', 37],
     ['Ar', 38],
-    ['Ne+Hg', 34],
-    ['Ne', 33],
+    ['Ne+Hg', 35],
+    ['Ne', 34],
   ];
   for (const [spec, floor] of floors) {
     it(`identifies ${spec} lines in ≥ ${floor} of 40 of the issue's instruments with the zero order where it is seen, none wrong`, () => {
