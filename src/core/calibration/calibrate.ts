@@ -11,7 +11,7 @@ import {
 } from './fitDispersion.js';
 import type { GratingFitOptions, ParameterPrior } from './gratingModel.js';
 import { isBroadFeature, type LampLineInfo, referenceUncertaintyNm } from './lineReference.js';
-import { matchLines, type ManualPair, type MatchLinesOptions, type MatchResult } from './matchLines.js';
+import { matchLines, type ManualPair, type MatchLinesOptions, type MatchResult, type ZeroOrderSighting } from './matchLines.js';
 import { dispersionAtNmPerPx, wavelengthAtNm } from './model.js';
 
 /** Where the physical model's focal length and axis come from, for a photo. */
@@ -111,7 +111,7 @@ export const CALIBRATE_MATCH_DEFAULTS: Partial<MatchLinesOptions> = { seedLinesP
 export const ZERO_ORDER_SIGHTING_SIGMA_PX = 2;
 
 /** The zero order a band search found (position along the band, px) as the matcher takes it, or null. */
-export function zeroOrderSighting(zeroOrderPx: number | undefined): { positionPx: number; uncertaintyPx: number } | null {
+export function zeroOrderSighting(zeroOrderPx: number | undefined): ZeroOrderSighting | null {
   return zeroOrderPx !== undefined && Number.isFinite(zeroOrderPx) ? { positionPx: zeroOrderPx, uncertaintyPx: ZERO_ORDER_SIGHTING_SIGMA_PX } : null;
 }
 

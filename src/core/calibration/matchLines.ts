@@ -366,7 +366,7 @@ function searchLines(
     for (const sol of solutions) withZeroOrder(sol, o.zeroOrder, o.dispersionNmPerPx);
     solutions.sort(byScore);
   }
-  const trialsLog10 = log10Trials + (o.zeroOrder ? Math.LOG10E * Math.LN2 : 0);
+  const trialsLog10 = log10Trials + (o.zeroOrder ? Math.log10(2) : 0);
   for (const sol of solutions) {
     sol.score.log10Trials = trialsLog10;
     sol.score.falseMatchProbability = Math.min(1, 10 ** (sol.score.log10Chance - sol.score.log10Multiplicity + trialsLog10));

@@ -14,7 +14,7 @@
  * solutions the spacing-ratio triplets miss (a sparse lamp, blends among the seed peaks).
  */
 import type { ZeroOrderSighting } from '../matchLines.js';
-import { type Ctx, lowerBound, type Pair } from './context.js';
+import { type Ctx, nearest, type Pair } from './context.js';
 
 /** Most zero-order seeds handed to the growth (best supported first). */
 export const MAX_ZERO_ORDER_SEEDS = 12;
@@ -62,7 +62,7 @@ export function zeroOrderSeeds(ctx: Ctx, zero: ZeroOrderSighting, focalLengthPx:
         if (!(ratio > 0 && ratio < 1)) continue;
         const x = x0 + s * f * Math.tan(Math.asin(ratio) + az);
         if (!Number.isFinite(x)) continue;
-        const k = nearestPeak(px, x);
+        const k = nearest(px, x);
         if (k < 0 || k === i) continue;
         const miss = Math.abs(px[k] - x);
         if (miss > SEED_TOLERANCE_PX + SEED_TOLERANCE_FRACTION * Math.abs(x - p.x)) continue;
@@ -74,18 +74,10 @@ export function zeroOrderSeeds(ctx: Ctx, zero: ZeroOrderSighting, focalLengthPx:
         }
       }
       if (byPeak.size < 2) continue;
-      const nearest = [...byPeak.values()].sort((a, b) => a.dist - b.dist).slice(0, 2).map((c) => c.pair);
-      found.push({ seed: [{ peak: i, line: j, x: p.x, lambda: l.wavelengthNm, manual: false }, ...nearest], support: byPeak.size });
+      const partners = [...byPeak.values()].sort((a, b) => a.dist - b.dist).slice(0, 2).map((c) => c.pair);
+      found.push({ seed: [{ peak: i, line: j, x: p.x, lambda: l.wavelengthNm, manual: false }, ...partners], support: byPeak.size });
     }
   }
   found.sort((a, b) => b.support - a.support);
   return { seeds: found.slice(0, MAX_ZERO_ORDER_SEEDS).map((c) => c.seed), tested };
-}
-
-function nearestPeak(px: Float64Array, x: number): number {
-  if (px.length === 0) return -1;
-  const k = lowerBound(px, x);
-  if (k <= 0) return 0;
-  if (k >= px.length) return px.length - 1;
-  return x - px[k - 1] <= px[k] - x ? k - 1 : k;
 }
