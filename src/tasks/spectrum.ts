@@ -19,6 +19,7 @@ import { airToVacuumNm } from '../core/units/airVacuum.js';
 import { type DecodedImage, decodeImageStaged, type ExifSummary, narrowRowWindow, type StagedDecode } from '../io/image.js';
 import { readSpectrumCsv } from '../io/readSpectrumCsv.js';
 import { sniffKind } from '../io/sniff.js';
+import { Scratch } from '../core/spectrum/scratch.js';
 import { createSvgDocument } from '../io/svgDocument.js';
 
 /** What `glowprint spectrum` measures, before printing: the same object the --json output shows (in snake_case). */
@@ -104,6 +105,12 @@ export interface SpectrumRun {
   analysis: SpectrumAnalysis;
   spectrum: Spectrum;
 }
+
+/**
+ * The coarse image's planes, kept from photo to photo (core/spectrum/scratch.ts): decimatePreview and the coarse search
+ * that reads them run in one synchronous stretch, and the search keeps none of them.
+ */
+const PREVIEW_SCRATCH = new Scratch();
 
 const IMAGE_EXTENSIONS = new Set(['.jpg', '.jpeg', '.png', '.tif', '.tiff', '.webp']);
 const CSV_EXTENSIONS = new Set(['.csv', '.tsv', '.txt', '.dat']);
@@ -351,7 +358,7 @@ async function coarseFromPreview(
       rows = startRows(guess.fromPx, guess.toPx);
       rows.catch(() => undefined); // awaited after the search, if that succeeds
     }
-    const dec = decimatePreview(preview.image, preview.scale, width, height, d.coarseMaxSidePx, d.saturationLevel);
+    const dec = decimatePreview(preview.image, preview.scale, width, height, d.coarseMaxSidePx, d.saturationLevel, PREVIEW_SCRATCH);
     const onComponents = startRows
       ? (c: CoarseBand): void => {
           const r = bandRows(c.band, c.memberEnds, height);

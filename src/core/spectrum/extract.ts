@@ -34,6 +34,7 @@ import {
 import { fitNoiseModel, type NoiseModel, ResidualSample } from './extraction/noiseModel.js';
 import { spatialProfile } from './extraction/profile.js';
 import { checkBand, type SampledBand, sampleBand } from './sampleBand.js';
+import { Scratch } from './scratch.js';
 
 /**
  * The residual sample of the noise-model fit, one for every extraction (extractSpectrum is synchronous; the sample is
@@ -205,6 +206,12 @@ function resolveOptions(band: BandGeometry, options: ExtractSpectrumOptions): Re
   };
 }
 
+/**
+ * Working arrays kept from photo to photo (scratch.ts): the samples of extractSpectrum and the per-sample arrays of
+ * extractFromSamples. Extraction runs to the end without awaiting anything, and what it returns is freshly allocated.
+ */
+const EXTRACT_SCRATCH = new Scratch();
+
 /** How far extractSpectrum samples across the band for these options: ±halfWidthPx (px). */
 export function extractionHalfWidthPx(band: BandGeometry, options: ExtractSpectrumOptions = {}): number {
   const o = resolveOptions(band, options);
@@ -220,6 +227,7 @@ export function extractSpectrum(image: LinearImage, band: BandGeometry, options:
     halfWidthPx: o.background ? o.backgroundToPx : o.objectHalfWidthPx,
     saturationLevel: o.saturationLevel,
     out: options.reuse,
+    scratch: options.reuse ? undefined : EXTRACT_SCRATCH,
   });
   return extractFromSamples(sampled, o);
 }
@@ -315,6 +323,7 @@ function extractFromSamples(s: SampledBand, o: Resolved): ExtractedSpectrum {
     flux: box,
     windowSamples: Math.max(1, Math.round(o.profileWindowPx / o.stepPx)) | 1,
     sampleSigma,
+    scratch: EXTRACT_SCRATCH,
   });
 
   // 5. Noise models: V0 from the off-band rows (or the caller's numbers), the shot term fitted after a first pass.
@@ -355,7 +364,7 @@ function extractFromSamples(s: SampledBand, o: Resolved): ExtractedSpectrum {
   }
   if (iterations === 1) noise = fitted(combined, bg, prior, noise, combScale); // a single pass: fit on the box spectrum
   const variance = new Float64Array(N);
-  const weights = new Float32Array(N * M);
+  const weights = EXTRACT_SCRATCH.take('extract.weights', Float32Array, N * M);
   const saturated = new Uint8Array(N);
   finalPass(data, bg, profile, mask, s.saturated, layout, prior, noise, combTerms, { flux, variance, weights, saturated });
 
@@ -428,7 +437,7 @@ function extractFromSamples(s: SampledBand, o: Resolved): ExtractedSpectrum {
 function channelMean(planes: Float32Array[]): Float32Array {
   const [p0, p1, p2] = planes;
   const n = p0.length;
-  const out = new Float32Array(n);
+  const out = EXTRACT_SCRATCH.take('extract.channelMean', Float32Array, n);
   for (let k = 0; k < n; k++) out[k] = (p0[k] + p1[k] + p2[k]) * (1 / 3);
   return out;
 }
@@ -441,8 +450,8 @@ function objectRows(
   layout: ObjectLayout,
 ): { data: Float32Array; mask: Uint8Array; box: Float64Array } {
   const { columns: N, rows: M, sampledRows: R, firstRow: jo0, offsetPx: qObj } = layout;
-  const data = new Float32Array(N * M);
-  const mask = new Uint8Array(N * M);
+  const data = EXTRACT_SCRATCH.take('extract.data', Float32Array, N * M);
+  const mask = EXTRACT_SCRATCH.take('extract.mask', Uint8Array, N * M);
   const box = new Float64Array(N);
   const { base, slope } = bg;
   for (let i = 0; i < N; i++) {

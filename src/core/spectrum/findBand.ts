@@ -24,6 +24,13 @@ import { insideRange, measureHeight } from './band/extent.js';
 import { flattenBackground } from './band/flatten.js';
 import { foldAxisAngleDeg, imageToBandPx, reverseBand } from './band/frame.js';
 import { refineBand } from './band/refine.js';
+import { Scratch } from './scratch.js';
+
+/**
+ * The band stages' working arrays, kept from photo to photo (scratch.ts): findBand and searchBandCoarse run to the end
+ * without awaiting anything, and none of their samples outlives the call.
+ */
+const BAND_SCRATCH = new Scratch();
 
 export interface FindBandOptions {
   /** Name of the input in messages ("no spectrum found in <source>"). @default 'the image' */
@@ -148,8 +155,8 @@ export function searchBandCoarse(dec: Decimated, widthPx: number, heightPx: numb
   if (dec.width !== Math.ceil(widthPx / f) || dec.height !== Math.ceil(heightPx / f)) {
     throw invalid('coarse image', `${Math.ceil(widthPx / f)} × ${Math.ceil(heightPx / f)} blocks of ${f} px`, `${dec.width} × ${dec.height}`);
   }
-  const flat = flattenBackground(dec.planes, dec.width, dec.height);
-  const coarse = coarseBand(dec, flat.residual, { detectionSigma, minSignal, source });
+  const flat = flattenBackground(dec.planes, dec.width, dec.height, BAND_SCRATCH);
+  const coarse = coarseBand(dec, flat.residual, { detectionSigma, minSignal, source, scratch: BAND_SCRATCH });
   options.onComponents?.(coarse);
   const ambient = ambientFromSurfaces(flat.surfaces, dec.width, dec.height, f);
   let band = coarse.band;
@@ -169,9 +176,9 @@ export function searchBandCoarse(dec: Decimated, widthPx: number, heightPx: numb
       heightPx: b.heightPx * f,
     });
     const small: LinearImage = { width: dec.width, height: dec.height, channels: 1, data: coarse.luminance };
-    const coarseRefined = refineBand(small, toDec(band), { iterations: 4, slant: measureSlant });
+    const coarseRefined = refineBand(small, toDec(band), { iterations: 4, slant: measureSlant, scratch: BAND_SCRATCH });
     slantSeen = coarseRefined.report.slantMeasured;
-    band = toFull(withHeight(small, coarseRefined.band));
+    band = toFull(withHeight(small, coarseRefined.band, undefined));
   }
   return { widthPx, heightPx, factor: f, coarse, ambient, band, slantSeen };
 }
@@ -197,7 +204,7 @@ export function findBand(image: LinearImage, options: FindBandOptions & { coarse
   let search = options.coarse;
   if (search === undefined) {
     const factor = Math.max(1, Math.ceil(Math.max(image.width, image.height) / coarseMaxSidePx));
-    search = searchBandCoarse(decimate(image, factor, saturationLevel), image.width, image.height, { ...options, source });
+    search = searchBandCoarse(decimate(image, factor, saturationLevel, BAND_SCRATCH), image.width, image.height, { ...options, source });
   } else if (search.widthPx !== image.width || search.heightPx !== image.height) {
     throw invalid('coarse', `a coarse search of this ${image.width} × ${image.height} photo`, `one of ${search.widthPx} × ${search.heightPx}`);
   }
@@ -208,14 +215,15 @@ export function findBand(image: LinearImage, options: FindBandOptions & { coarse
 
   // 3 (fine). Refinement at full resolution.
   band = withMemberExtent(band, coarse.memberEnds, image.width, image.height);
-  let refined = refineBand(image, band, { iterations: refineIterations, slant: measureSlant, ambient });
+  const scratch = BAND_SCRATCH;
+  let refined = refineBand(image, band, { iterations: refineIterations, slant: measureSlant, ambient, scratch });
   slantSeen ||= refined.report.slantMeasured;
   band = withHeight(image, refined.band, ambient);
   band = withMemberExtent(band, coarse.memberEnds, image.width, image.height);
-  refined = refineBand(image, band, { iterations: 1, slant: measureSlant, ambient });
+  refined = refineBand(image, band, { iterations: 1, slant: measureSlant, ambient, scratch });
   slantSeen ||= refined.report.slantMeasured;
   band = refined.band;
-  const height = measureHeight(image, band, ambient);
+  const height = measureHeight(image, band, ambient, scratch);
   band = shiftAcross(band, height.centreOffsetPx, height.heightPx);
   band = withMemberExtent(band, coarse.memberEnds, image.width, image.height);
   const [inFrom, inTo] = insideRange(band, image.width, image.height);
@@ -261,8 +269,8 @@ export function findBand(image: LinearImage, options: FindBandOptions & { coarse
 }
 
 /** The band with its height measured and its centre moved onto the cross profile's half-maximum midpoint. */
-function withHeight(image: LinearImage, band: BandGeometry, ambient?: Ambient): BandGeometry {
-  const m = measureHeight(image, band, ambient);
+function withHeight(image: LinearImage, band: BandGeometry, ambient: Ambient | undefined): BandGeometry {
+  const m = measureHeight(image, band, ambient, BAND_SCRATCH);
   return shiftAcross(band, m.centreOffsetPx, m.heightPx);
 }
 

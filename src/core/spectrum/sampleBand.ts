@@ -11,6 +11,7 @@ import type { BandGeometry, LinearImage } from '../types.js';
 import { bandFrame } from './band/frame.js';
 import { type PixelAccess, pixelAccess } from './band/pixels.js';
 import { RowWindowMiss } from './band/rowWindow.js';
+import type { Scratch } from './scratch.js';
 
 export interface SampleBandOptions {
   /** Spacing of the samples along the band (px). @default 1 */
@@ -37,6 +38,11 @@ export interface SampleBandOptions {
   flagSaturated?: boolean;
   /** A previous result to reuse when its size matches (live frames): avoids reallocating the planes. */
   out?: SampledBand;
+  /**
+   * Working arrays to take the result's arrays from (when `out` does not fit): the result is then valid only until the
+   * next sampleBand with the same scratch (see scratch.ts), for a caller that samples, reads and drops.
+   */
+  scratch?: Scratch;
 }
 
 export const SAMPLE_BAND_DEFAULTS = {
@@ -89,7 +95,7 @@ export function sampleBand(image: LinearImage, band: BandGeometry, options: Samp
   const half = Math.floor(halfWidthPx / rowStepPx + 1e-9);
   const rows = 2 * half + 1;
   const nPlanes = combine || px.channels === 1 ? 1 : 3;
-  const out = reuse(options.out, columns, rows, nPlanes);
+  const out = reuse(options.out, columns, rows, nPlanes, options.scratch);
   for (let i = 0; i < columns; i++) out.positionPx[i] = fromPx + i * stepPx;
   for (let j = 0; j < rows; j++) out.offsetPx[j] = (j - half) * rowStepPx;
 
@@ -130,12 +136,27 @@ interface Grid {
   rowDy: number;
 }
 
-function reuse(prev: SampledBand | undefined, columns: number, rows: number, nPlanes: number): SampledBand {
+function reuse(prev: SampledBand | undefined, columns: number, rows: number, nPlanes: number, scratch: Scratch | undefined): SampledBand {
   const n = columns * rows;
   if (prev && prev.columns === columns && prev.rows === rows && prev.planes.length === nPlanes) {
     prev.valid.fill(0);
     prev.saturated.fill(0);
     return prev;
+  }
+  if (scratch) {
+    // Zero-filled like new arrays (scratch.take), so the kernels see what they would see in fresh ones.
+    const planes: Float32Array[] = [];
+    for (let c = 0; c < nPlanes; c++) planes.push(scratch.take(PLANE_SLOTS[c], Float32Array, n));
+    return {
+      columns,
+      rows,
+      positionPx: scratch.take('sampleBand.positionPx', Float64Array, columns),
+      offsetPx: scratch.take('sampleBand.offsetPx', Float64Array, rows),
+      planes,
+      valid: scratch.take('sampleBand.valid', Uint8Array, n),
+      saturated: scratch.take('sampleBand.saturated', Uint8Array, n),
+      outsideCount: 0,
+    };
   }
   return {
     columns,
@@ -148,6 +169,8 @@ function reuse(prev: SampledBand | undefined, columns: number, rows: number, nPl
     outsideCount: 0,
   };
 }
+
+const PLANE_SLOTS = ['sampleBand.plane0', 'sampleBand.plane1', 'sampleBand.plane2'];
 
 // The two kernels below are the same bilinear loop written out for linear Float32 values and for integer codes
 // through a table, so that each stays monomorphic (one array type per access site) in the JIT.

@@ -21,6 +21,7 @@ import { type Component, labelComponents, principalAxes, spreadAlong } from './c
 import type { Decimated } from './decimate.js';
 import { boxMean3, detailLayer, imageSigma } from './flatten.js';
 import { foldAxisAngleDeg } from './frame.js';
+import { type Scratch, takeOrNew } from '../scratch.js';
 import { selectInPlace } from './select.js';
 
 const DEG = 180 / Math.PI;
@@ -30,6 +31,8 @@ export interface CoarseOptions {
   detectionSigma: number;
   minSignal: number;
   source: string;
+  /** Working arrays for the per-pixel passes (see scratch.ts); the result holds none of them. */
+  scratch?: Scratch;
 }
 
 export interface CoarseBand {
@@ -67,17 +70,19 @@ export function coarseBand(dec: Decimated, residual: Float32Array[], options: Co
   const lum = meanOfPlanes(residual, w * h);
   // Detection on the detail layer (glare and halos broader than ~25 coarse px removed), 3 × 3-smoothed.
   const detailRadius = Math.max(4, Math.round(Math.max(w, h) / 50));
-  const s3 = boxMean3(detailLayer(lum, w, h, detailRadius), w, h);
-  const { median, sigma } = imageSigma(s3);
+  const scratch = options.scratch;
+  const s3 = boxMean3(detailLayer(lum, w, h, detailRadius, scratch), w, h, scratch);
+  const { median, sigma } = imageSigma(s3, scratch);
   const threshold = median + Math.max(options.detectionSigma * sigma, options.minSignal);
-  const mask = new Uint8Array(w * h);
-  const detected = thresholdMask(s3, threshold, mask);
+  const mask = takeOrNew(scratch, 'coarse.mask', Uint8Array, w * h);
+  const detected = thresholdMask(s3, threshold, mask, takeOrNew(scratch, 'coarse.detected', Int32Array, w * h));
   const any = detected.length;
   if (any < 2) throw noSpectrum(options.source, s3, median, sigma);
   // Weight of a pixel: its signal above the background, capped at the 90th percentile of the detected pixels so that a
   // saturated zero order or lamp does not outweigh the band by its brightness alone.
-  const weight = cappedWeights(s3, detected, median);
-  const { components: all, labels } = labelComponents(mask, w, h, weight, residual, dec.clipped, detected);
+  const weight = cappedWeights(s3, detected, median, takeOrNew(scratch, 'coarse.weight', Float32Array, w * h));
+  const labelled = takeOrNew(scratch, 'coarse.labels', Int32Array, w * h);
+  const { components: all, labels } = labelComponents(mask, w, h, weight, residual, dec.clipped, detected, labelled);
   let maxWeight = 0;
   for (const c of all) if (c.weight > maxWeight) maxWeight = c.weight;
   const comps = all.filter((c) => c.area >= 2 && c.weight >= 0.002 * maxWeight);
@@ -427,8 +432,7 @@ function addScaled(out: Float32Array, plane: Float32Array, factor: number, n: nu
 }
 
 /** Sets mask[k] = 1 where values[k] ≥ threshold; returns those k, ascending (the later passes visit only them). */
-function thresholdMask(values: Float32Array, threshold: number, mask: Uint8Array): Int32Array {
-  const set = new Int32Array(values.length);
+function thresholdMask(values: Float32Array, threshold: number, mask: Uint8Array, set: Int32Array): Int32Array {
   let n = 0;
   for (let k = 0; k < values.length; k++) {
     if (values[k] >= threshold) {
@@ -439,12 +443,11 @@ function thresholdMask(values: Float32Array, threshold: number, mask: Uint8Array
   return set.subarray(0, n);
 }
 
-function cappedWeights(values: Float32Array, set: Int32Array, level: number): Float32Array {
+function cappedWeights(values: Float32Array, set: Int32Array, level: number, weight: Float32Array): Float32Array {
   const count = set.length;
   const detected = new Float32Array(count);
   for (let n = 0; n < count; n++) detected[n] = values[set[n]] - level;
   const cap = selectInPlace(detected, count, Math.floor(0.9 * (count - 1)));
-  const weight = new Float32Array(values.length);
   for (let n = 0; n < count; n++) weight[set[n]] = Math.min(values[set[n]] - level, cap);
   return weight;
 }

@@ -33,7 +33,8 @@ export interface Component {
 /**
  * Labels `mask` (1 = set) and accumulates the statistics. `weight` gives each pixel's w, `planes` the colour signal,
  * `clipped` a per-pixel clipped fraction; `setPixels` lists the set pixels in ascending order when the caller has
- * them (a threshold pass), so that a mostly empty mask costs its set pixels, not its size.
+ * them (a threshold pass), so that a mostly empty mask costs its set pixels, not its size; `labels`, width × height,
+ * receives the labels (a caller's working array; by default a new one).
  */
 // find and union are module functions, not closures made per call: V8 keeps a closure's optimized code only weakly
 // once the call that made it has returned, and the mark-compact that each 12-MP photo's decode buffer brings on threw
@@ -69,8 +70,9 @@ export function labelComponents(
   planes: Float32Array[],
   clipped: Float32Array,
   setPixels: Int32Array = setPixelsOf(mask),
+  labels: Int32Array = new Int32Array(width * height),
 ): { components: Component[]; labels: Int32Array } {
-  const labels = new Int32Array(width * height).fill(-1);
+  labels.fill(-1);
   const parent: number[] = [];
   // Every pass visits the set pixels only, in raster order (the same order as a scan of the whole image).
   for (let s = 0; s < setPixels.length; s++) {

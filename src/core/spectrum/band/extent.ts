@@ -12,6 +12,7 @@ import type { BandGeometry, LinearImage } from '../../types.js';
 import { columnBackground } from '../extraction/background.js';
 import { neighbourSigma } from '../extraction/profile.js';
 import { sampleBand } from '../sampleBand.js';
+import type { Scratch } from '../scratch.js';
 import { type Ambient, subtractAmbient } from './ambient.js';
 import { bandFrame } from './frame.js';
 
@@ -31,11 +32,12 @@ export interface HeightMeasure {
   complete: boolean;
 }
 
-export function measureHeight(image: LinearImage, band: BandGeometry, ambient?: Ambient): HeightMeasure {
+/** `scratch`: working arrays for the samples (see scratch.ts); nothing taken from it outlives the call. */
+export function measureHeight(image: LinearImage, band: BandGeometry, ambient?: Ambient, scratch?: Scratch): HeightMeasure {
   let half = Math.max(1.5 * band.heightPx, band.heightPx / 2 + 30);
   let last: HeightMeasure | null = null;
   for (let attempt = 0; attempt < 3; attempt++) {
-    const m = crossProfileOnce(image, band, half, ambient);
+    const m = crossProfileOnce(image, band, half, ambient, scratch);
     last = m;
     if (m.complete) return m;
     half *= 2;
@@ -43,11 +45,17 @@ export function measureHeight(image: LinearImage, band: BandGeometry, ambient?: 
   return last!;
 }
 
-function crossProfileOnce(image: LinearImage, band: BandGeometry, halfWidthPx: number, ambient: Ambient | undefined): HeightMeasure {
+function crossProfileOnce(
+  image: LinearImage,
+  band: BandGeometry,
+  halfWidthPx: number,
+  ambient: Ambient | undefined,
+  scratch: Scratch | undefined,
+): HeightMeasure {
   const rowStepPx = Math.max(1, (2 * halfWidthPx) / 250);
   // About 300 columns: the profile is the median over at most 300 bright ones (more were sampled and then thinned out).
   const stepPx = Math.max(1, band.lengthPx / 300);
-  const s = sampleBand(image, band, { halfWidthPx, rowStepPx, stepPx, combine: true, flagSaturated: false });
+  const s = sampleBand(image, band, { halfWidthPx, rowStepPx, stepPx, combine: true, flagSaturated: false, scratch });
   if (ambient) subtractAmbient(s, band, ambient);
   const R = s.rows;
   const N = s.columns;

@@ -6,6 +6,7 @@
  * by their MAD, so that cells filled by the band are outvoted. Then the noise of the flattened image is measured.
  */
 import { linearLeastSquares } from '../../fit/index.js';
+import { type Scratch, takeOrNew } from '../scratch.js';
 import { selectInPlace } from './select.js';
 
 export interface Flattened {
@@ -15,7 +16,11 @@ export interface Flattened {
   surfaces: number[][];
 }
 
-export function flattenBackground(planes: Float32Array[], width: number, height: number): Flattened {
+/**
+ * `scratch`: working arrays to take the residual planes from (see scratch.ts), for a caller that reads them within the
+ * same synchronous call; by default new arrays.
+ */
+export function flattenBackground(planes: Float32Array[], width: number, height: number, scratch?: Scratch): Flattened {
   const cell = Math.max(4, Math.round(Math.max(width, height) / 10));
   const cx = Math.ceil(width / cell);
   const cy = Math.ceil(height / cell);
@@ -23,8 +28,9 @@ export function flattenBackground(planes: Float32Array[], width: number, height:
   const sy = 2 / Math.max(1, height - 1);
   const residual: Float32Array[] = [];
   const surfaces: number[][] = [];
-  const scratch = new Float32Array(cell * cell);
-  for (const plane of planes) {
+  const cellValues = new Float32Array(cell * cell);
+  for (let c = 0; c < planes.length; c++) {
+    const plane = planes[c];
     const design: number[][] = [];
     const values: number[] = [];
     for (let Y = 0; Y < cy; Y++) {
@@ -33,9 +39,9 @@ export function flattenBackground(planes: Float32Array[], width: number, height:
         const y1 = Math.min(height, (Y + 1) * cell);
         // Every second pixel each way in cells of 16 px or more: the percentile needs no more.
         const st = cell >= 16 ? 2 : 1;
-        const n = gatherCell(plane, width, X * cell, x1, Y * cell, y1, st, scratch);
+        const n = gatherCell(plane, width, X * cell, x1, Y * cell, y1, st, cellValues);
         if (n < 4) continue;
-        const v = selectInPlace(scratch, n, Math.floor(0.2 * (n - 1)));
+        const v = selectInPlace(cellValues, n, Math.floor(0.2 * (n - 1)));
         const u = ((X * cell + x1 - 1) / 2) * sx - 1;
         const w = ((Y * cell + y1 - 1) / 2) * sy - 1;
         design.push([1, u, w, u * u, u * w, w * w]);
@@ -44,7 +50,8 @@ export function flattenBackground(planes: Float32Array[], width: number, height:
     }
     const coef = robustSurface(design, values);
     surfaces.push(coef);
-    residual.push(subtractSurface(plane, width, height, coef));
+    const out = takeOrNew(scratch, RESIDUAL_SLOTS[c] ?? `flatten.residual${c}`, Float32Array, width * height);
+    residual.push(subtractSurface(plane, width, height, coef, out));
   }
   return { residual, surfaces };
 }
@@ -56,8 +63,9 @@ function gatherCell(plane: Float32Array, width: number, x0: number, x1: number, 
   return n;
 }
 
-function subtractSurface(plane: Float32Array, width: number, height: number, coef: number[]): Float32Array {
-  const out = new Float32Array(width * height);
+const RESIDUAL_SLOTS = ['flatten.residual0', 'flatten.residual1', 'flatten.residual2'];
+
+function subtractSurface(plane: Float32Array, width: number, height: number, coef: number[], out: Float32Array): Float32Array {
   const sx = 2 / Math.max(1, width - 1);
   const sy = 2 / Math.max(1, height - 1);
   const c0 = +coef[0], c1 = +coef[1], c2 = +coef[2], c3 = +coef[3], c4 = +coef[4], c5 = +coef[5];
@@ -107,11 +115,11 @@ function median(values: number[]): number {
 /**
  * 3 × 3 box mean (edges: the mean of what the window holds). Separable, both passes row by row (the vertical pass
  * reads three rows side by side instead of walking down columns); the sums are added in the same order as a window
- * loop would add them, so the values are the same to the bit.
+ * loop would add them, so the values are the same to the bit. `scratch` as for flattenBackground.
  */
-export function boxMean3(plane: Float32Array, width: number, height: number): Float32Array {
-  const tmp = new Float32Array(width * height);
-  const out = new Float32Array(width * height);
+export function boxMean3(plane: Float32Array, width: number, height: number, scratch?: Scratch): Float32Array {
+  const tmp = takeOrNew(scratch, 'boxMean3.tmp', Float32Array, width * height);
+  const out = takeOrNew(scratch, 'boxMean3.out', Float32Array, width * height);
   for (let y = 0; y < height; y++) boxRow3(plane, tmp, y * width, width);
   for (let y = 0; y < height; y++) boxColumns3(tmp, out, y, width, height);
   return out;
@@ -142,11 +150,11 @@ function boxColumns3(src: Float32Array, dst: Float32Array, y: number, width: num
   }
 }
 
-/** Robust σ of a mostly-empty image: 1.4826 · MAD about the median, from a subsample of at most ~60 000 pixels. */
-export function imageSigma(plane: Float32Array): { median: number; sigma: number } {
+/** Robust σ of a mostly-empty image: 1.4826 · MAD about the median, from a subsample of at most ~60 000 pixels (`scratch` for it). */
+export function imageSigma(plane: Float32Array, scratch?: Scratch): { median: number; sigma: number } {
   const stride = Math.max(1, Math.floor(plane.length / 60000));
   const n = Math.floor((plane.length - 1) / stride) + 1;
-  const s = new Float32Array(n);
+  const s = takeOrNew(scratch, 'imageSigma.sample', Float32Array, n);
   for (let i = 0, k = 0; i < n; i++, k += stride) s[i] = plane[k];
   const med = selectInPlace(s, n, n >> 1);
   absoluteDeviations(s, n, med);
@@ -162,16 +170,16 @@ function absoluteDeviations(s: Float32Array, n: number, centre: number): void {
  * Detail layer: the image minus its box mean over (2r + 1)², edges by the mean of what the window holds. Smooth glare
  * and halos vanish from it; line images, the band's edges and compact spots stay. O(pixels) by running sums: a prefix
  * sum along each row, then prefix sums down all columns at once, kept row by row (a walk down each column in turn
- * would touch a new cache line at every step).
+ * would touch a new cache line at every step). `scratch` as for flattenBackground.
  */
-export function detailLayer(plane: Float32Array, width: number, height: number, r: number): Float32Array {
-  const tmp = new Float32Array(width * height);
+export function detailLayer(plane: Float32Array, width: number, height: number, r: number, scratch?: Scratch): Float32Array {
+  const tmp = takeOrNew(scratch, 'detailLayer.tmp', Float32Array, width * height);
   const prefix = new Float64Array(width + 1);
   for (let y = 0; y < height; y++) rowWindowMean(plane, tmp, prefix, y * width, width, r);
   // columnPrefix[(y + 1)·width + x] = Σ tmp over rows 0…y of column x.
-  const columnPrefix = new Float64Array((height + 1) * width);
+  const columnPrefix = takeOrNew(scratch, 'detailLayer.columnPrefix', Float64Array, (height + 1) * width);
   for (let y = 0; y < height; y++) addRow(columnPrefix, tmp, y, width);
-  const out = new Float32Array(width * height);
+  const out = takeOrNew(scratch, 'detailLayer.out', Float32Array, width * height);
   for (let y = 0; y < height; y++) subtractColumnWindowMean(plane, columnPrefix, out, y, width, height, r);
   return out;
 }

@@ -16,6 +16,7 @@ import type { BandGeometry, LinearImage } from '../../types.js';
 import { columnBackground } from '../extraction/background.js';
 import { neighbourSigma } from '../extraction/profile.js';
 import { type SampledBand, sampleBand } from '../sampleBand.js';
+import { type Scratch, takeOrNew } from '../scratch.js';
 import { type Ambient, subtractAmbient } from './ambient.js';
 import { bandFrame } from './frame.js';
 
@@ -38,6 +39,8 @@ export interface RefineOptions {
   slant: boolean;
   /** Ambient light to subtract before the off-band background (full-resolution refinement). */
   ambient?: Ambient;
+  /** Working arrays for the samples (see scratch.ts); nothing taken from it outlives the call. */
+  scratch?: Scratch;
 }
 
 export function refineBand(image: LinearImage, start: BandGeometry, options: RefineOptions): { band: BandGeometry; report: RefineReport } {
@@ -48,7 +51,7 @@ export function refineBand(image: LinearImage, start: BandGeometry, options: Ref
     report.iterations++;
     // One sampling per iteration: the slant is measured in the same frame as the axis, and both corrections are
     // applied together (the centroid fit does not depend on the slant to first order, nor the slab shifts on the axis).
-    const s = bandSamples(image, band, options.ambient, buffer);
+    const s = bandSamples(image, band, options.ambient, buffer, options.scratch);
     if (!s) break;
     buffer = s.sampled;
     const slant = options.slant ? fitSlant(s, band) : null;
@@ -92,7 +95,13 @@ interface BandSamples {
 }
 
 /** Samples the band (object rows ± margin, off-band rows on both sides) and subtracts the background. */
-function bandSamples(image: LinearImage, band: BandGeometry, ambient: Ambient | undefined, reuse?: SampledBand): BandSamples | null {
+function bandSamples(
+  image: LinearImage,
+  band: BandGeometry,
+  ambient: Ambient | undefined,
+  reuse: SampledBand | undefined,
+  scratch: Scratch | undefined,
+): BandSamples | null {
   const H = band.heightPx;
   const margin = Math.min(30, Math.max(3, 0.2 * H));
   const gap = 2;
@@ -101,7 +110,7 @@ function bandSamples(image: LinearImage, band: BandGeometry, ambient: Ambient | 
   // Rows every H/60 px: the centroid and the slab sums need the band's shape across, not every pixel row.
   const rowStepPx = Math.max(1, H / 60);
   const stepPx = Math.max(1, band.lengthPx / 3000);
-  const s = sampleBand(image, band, { halfWidthPx: objHalf + gap + bgWidth, rowStepPx, stepPx, combine: true, flagSaturated: false, out: reuse });
+  const s = sampleBand(image, band, { halfWidthPx: objHalf + gap + bgWidth, rowStepPx, stepPx, combine: true, flagSaturated: false, out: reuse, scratch });
   if (ambient) subtractAmbient(s, band, ambient);
   const R = s.rows;
   const N = s.columns;
@@ -124,7 +133,7 @@ function bandSamples(image: LinearImage, band: BandGeometry, ambient: Ambient | 
   }
   const bg = columnBackground(s.planes[0], s.valid, N, R, q, low, high, 9);
   const M = j1 - j0 + 1;
-  const data = new Float32Array(N * M);
+  const data = takeOrNew(scratch, 'refine.data', Float32Array, N * M);
   const complete = new Uint8Array(N);
   objectRowsLessBackground(s.planes[0], s.valid, bg.base, bg.slope, q, N, R, j0, M, H / 2 + 3, data, complete);
   return { columns: N, rows: M, positionPx: s.positionPx, offsetPx: q, data, complete, objRows: M, objOffsetPx: q.slice(j0, j1 + 1), stepPx, sampled: s };

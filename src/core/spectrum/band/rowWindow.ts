@@ -124,14 +124,16 @@ export const GUESS_BAND_ROWS_DEFAULTS = { strips: 16, peakSigma: 12, maxTiltDeg:
  * wrong (glare brighter than the band along a line of its own): the caller checks it against bandRows and decodes the
  * right rows when it does not cover them. Null when no strip stands out.
  * `factor`: full-resolution px per pixel of `image` (its pixel (X, Y) is centred on (f·X + (f − 1)/2, f·Y + (f − 1)/2)).
+ * An image that holds codes (`codes` and `codeToLinear`, as io's JPEG preview does) is read through its table, and
+ * its Float32 `data` is never built.
  */
 export function guessBandRows(
-  image: Pick<LinearImage, 'width' | 'height' | 'channels' | 'data'>,
+  image: Pick<LinearImage, 'width' | 'height' | 'channels' | 'data' | 'codes' | 'codeToLinear'>,
   factor: number,
   heightPx: number,
   options: GuessBandRowsOptions = {},
 ): { fromPx: number; toPx: number } | null {
-  const { width, height, channels: C, data } = image;
+  const { width, height, channels: C } = image;
   const d = GUESS_BAND_ROWS_DEFAULTS;
   const K = Math.max(1, Math.min(options.strips ?? d.strips, Math.floor(width / 8)));
   const peakSigma = options.peakSigma ?? d.peakSigma;
@@ -146,7 +148,13 @@ export function guessBandRows(
   const edges = new Int32Array(K + 1);
   for (let k = 0; k <= K; k++) edges[k] = Math.floor((k * width) / K);
   for (let k = 0; k <= K; k++) edges[k] *= C; // channels interleaved: a strip's values are contiguous in a row
-  for (let Y = 0; Y < height; Y++) addRowByStrip(data, Y * width * C, edges, K, profiles, height, Y);
+  const { codes, codeToLinear } = image;
+  if (codes !== undefined && codeToLinear !== undefined) {
+    for (let Y = 0; Y < height; Y++) addCodeRowByStrip(codes, codeToLinear, Y * width * C, edges, K, profiles, height, Y);
+  } else {
+    const data = image.data;
+    for (let Y = 0; Y < height; Y++) addRowByStrip(data, Y * width * C, edges, K, profiles, height, Y);
+  }
   const scratch = new Float64Array(height);
   const f = factor;
   const found: Array<{ x: number; y: number; runPx: number; halfWidthPx: number; peak: number }> = [];
@@ -255,6 +263,24 @@ function robustQuadratic(p: Float64Array, n: number, trend: Float64Array, scratc
     }
   }
   return true;
+}
+
+/** addRowByStrip of values held as codes: the same sums of the same Float32 values, looked up in the table. */
+function addCodeRowByStrip(
+  codes: Uint8Array | Uint16Array,
+  lut: Float32Array,
+  from: number,
+  edges: Int32Array,
+  K: number,
+  profiles: Float64Array,
+  height: number,
+  Y: number,
+): void {
+  for (let k = 0; k < K; k++) {
+    let sum = 0;
+    for (let i = from + edges[k], end = from + edges[k + 1]; i < end; i++) sum += lut[codes[i]];
+    profiles[k * height + Y] += sum;
+  }
 }
 
 function addRowByStrip(plane: Float32Array, from: number, edges: Int32Array, K: number, profiles: Float64Array, height: number, Y: number): void {

@@ -12,6 +12,7 @@
  * (Horne rejects outliers while fitting the profile): a cosmic-ray hit in a faint stretch would otherwise become the
  * profile of the whole window and escape the rejection of step 6.
  */
+import { type Scratch, takeOrNew } from '../scratch.js';
 
 export interface ProfileInput {
   /** Background-subtracted data of the object rows, column by column (index i·rows + j). */
@@ -25,6 +26,8 @@ export interface ProfileInput {
   windowSamples: number;
   /** Noise σ of one sample, for the clip of outlying contributions (0: no clip). */
   sampleSigma: number;
+  /** Working arrays for P and the clamped data (see scratch.ts): P is then valid until the next call with it. */
+  scratch?: Scratch;
 }
 
 export interface SpatialProfile {
@@ -37,7 +40,8 @@ export interface SpatialProfile {
 export function spatialProfile(input: ProfileInput): SpatialProfile {
   const { data, valid, rows: M, columns: N, flux } = input;
   const half = Math.max(0, Math.floor(input.windowSamples / 2));
-  const profile = new Float32Array(M * N);
+  const scratch = input.scratch;
+  const profile = takeOrNew(scratch, 'profile.profile', Float32Array, M * N);
 
   // Global profile: Σ_i D_j / Σ_i f, clamped at 0 and normalised (uniform when the band holds no light).
   const global = rowSums(data, valid, M, N);
@@ -52,7 +56,8 @@ export function spatialProfile(input: ProfileInput): SpatialProfile {
   const kappa = 3 * Math.sqrt(2 * half + 1) * neighbourSigma(flux) + 1e-30;
 
   // Clamped contributions, then running window sums over columns [a, b) of every row, and of the flux.
-  const clamped = clampedContributions(data, valid, M, N, flux, global, 5 * input.sampleSigma);
+  const clampedOut = takeOrNew(scratch, 'profile.clamped', Float32Array, M * N);
+  const clamped = clampedContributions(data, valid, M, N, flux, global, 5 * input.sampleSigma, clampedOut);
   windowedProfile(clamped, M, N, flux, global, half, kappa, profile);
   return { profile, global };
 }
@@ -78,8 +83,8 @@ function clampedContributions(
   flux: Float64Array,
   global: Float64Array,
   clip: number,
+  clamped: Float32Array,
 ): Float32Array {
-  const clamped = new Float32Array(M * N);
   for (let i = 0; i < N; i++) {
     const f = flux[i];
     for (let j = 0, k = i * M; j < M; j++, k++) {
