@@ -1,6 +1,7 @@
 import { execFileSync } from 'node:child_process';
 import { writeFileSync } from 'node:fs';
 import path from 'node:path';
+import { constants as perfConstants, PerformanceObserver } from 'node:perf_hooks';
 import { fileURLToPath } from 'node:url';
 import sharp from 'sharp';
 import { analyseSpectrumInput } from '../src/tasks/spectrum.js';
@@ -51,11 +52,24 @@ export const spectrumSection: BenchSection = {
     const pipelineMs: number[] = [];
     const floorCpuMs: number[] = [];
     const pipelineCpuMs: number[] = [];
+    // Garbage collection during the timed pipeline runs (main-thread pauses, full mark-compacts counted apart): the
+    // part of a wall time that allocation brings on.
+    const gcEntries: Array<PerformanceEntry & { detail?: { kind?: number } }> = [];
+    const gcObserver = new PerformanceObserver((list) => void gcEntries.push(...list.getEntries()));
+    gcObserver.observe({ entryTypes: ['gc'] });
+    const windows: Array<[number, number]> = [];
     for (let k = 0; k < RUNS; k++) {
       // Interleaved, so that load from other processes on the machine falls on both alike.
       floorMs.push(await timeMs(floor, floorCpuMs));
-      pipelineMs.push(await timeMs(pipeline, pipelineCpuMs));
+      pipelineMs.push(await timeMs(pipeline, pipelineCpuMs, windows));
     }
+    await new Promise((resolve) => setTimeout(resolve, 0)); // the observer is called back after the entries
+    gcObserver.disconnect();
+    const inRuns = gcEntries.filter((e) => windows.some(([a, b]) => e.startTime >= a && e.startTime <= b));
+    const gc = {
+      ms: inRuns.reduce((sum, e) => sum + e.duration, 0),
+      majors: inRuns.filter((e) => e.detail?.kind === perfConstants.NODE_PERFORMANCE_GC_MAJOR).length,
+    };
     const floorMedian = median(floorMs);
     const pipelineMedian = median(pipelineMs);
     // CPU time of the process (all threads: decoder, JIT, GC) is far less disturbed by other processes than wall time
@@ -86,7 +100,8 @@ export const spectrumSection: BenchSection = {
           `First run in a fresh process (one command-line run, ` +
           `before the JIT has compiled anything): pipeline ${pipeMem.elapsedMs.toFixed(0)} ms, decode ` +
           `${floorMem.elapsedMs.toFixed(0)} ms = ${(pipeMem.elapsedMs / floorMem.elapsedMs).toFixed(1)}×. CPU time (all threads) ` +
-          `${median(pipelineCpuMs).toFixed(0)} ms vs ${median(floorCpuMs).toFixed(0)} ms = ${cpuRatio.toFixed(2)}×`,
+          `${median(pipelineCpuMs).toFixed(0)} ms vs ${median(floorCpuMs).toFixed(0)} ms = ${cpuRatio.toFixed(2)}×. Garbage ` +
+          `collection in the ${RUNS} timed pipeline runs: ${(gc.ms / RUNS).toFixed(1)} ms a run, ${gc.majors} full mark-compact(s) in all`,
       },
       {
         name: 'peak memory, spectrum pipeline ÷ decoded RGB size',
@@ -126,16 +141,20 @@ async function benchPhoto(): Promise<{ widthPx: number; heightPx: number; jpeg: 
   return { widthPx, heightPx, jpeg };
 }
 
-/** Wall time of one run (ms); its process CPU time (user + system, all threads, ms) is pushed onto `cpuMs`. */
-async function timeMs(task: () => Promise<void>, cpuMs: number[]): Promise<number> {
+/**
+ * Wall time of one run (ms); its process CPU time (user + system, all threads, ms) is pushed onto `cpuMs`, and its
+ * start and end (performance.now()) onto `windows` when given.
+ */
+async function timeMs(task: () => Promise<void>, cpuMs: number[], windows?: Array<[number, number]>): Promise<number> {
   (globalThis as { gc?: () => void }).gc?.();
   const c0 = process.cpuUsage();
   const t0 = performance.now();
   await task();
-  const elapsed = performance.now() - t0;
+  const t1 = performance.now();
   const c = process.cpuUsage(c0);
   cpuMs.push((c.user + c.system) / 1000);
-  return elapsed;
+  windows?.push([t0, t1]);
+  return t1 - t0;
 }
 
 function probe(mode: 'floor' | 'pipeline', file: string): MemoryProbeResult {
