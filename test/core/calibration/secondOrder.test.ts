@@ -69,4 +69,26 @@ describe('matchLines(peaks with order-2 images of strong lines)', () => {
       expect(q.secondOrder.map((m) => m.wavelengthNm)).not.toContain(weak.wavelengthNm);
     }
   });
+
+  it('counts the images of a lamp whose list ends in the red, read beyond its longest line', () => {
+    // Hg's list ends at 709.186 nm; its strong lines' images read 2λ = 809, 872 and 1092 nm, past that line.
+    const hg = calibrationLampLines('Hg', loadLampCatalog()).lines.filter((l) => !isBroadFeature(l));
+    const listed = prepareLines(hg, [380, 1000]);
+    const longestNm = Math.max(...listed.map((l) => l.wavelengthNm));
+    expect(longestNm).toBeLessThan(2 * 404.656);
+    const base = listed.map((l) => peak(xOf(l.wavelengthNm), 1000 * l.rank));
+    const imagedNm = [404.656, 435.833, 546.074];
+    for (const nm of imagedNm) expect(listed.find((l) => l.wavelengthNm === nm)!.rank).toBeGreaterThanOrEqual(SECOND_ORDER_MIN_RANK);
+    const images = imagedNm.map((nm) => peak(xOf(2 * nm), 0.1 * 1000 * listed.find((l) => l.wavelengthNm === nm)!.rank));
+    const r = matchLines([...base, ...images], hg, CALIBRATE_MATCH_DEFAULTS);
+    expect(r.accepted).toBe(true);
+    expect(r.secondOrder.map((m) => [m.peakIndex, Math.round(m.wavelengthNm * 1000)])).toEqual(
+      imagedNm.map((nm, i) => [base.length + i, Math.round(nm * 1000)]),
+    );
+    expect(r.score!.secondOrder).toBe(3);
+    // The images make the scale more certain than the order-1 peaks alone.
+    const without = matchLines(base, hg, CALIBRATE_MATCH_DEFAULTS);
+    expect(without.score!.secondOrder).toBe(0);
+    expect(r.score!.falseMatchProbability).toBeLessThan(without.score!.falseMatchProbability);
+  });
 });

@@ -72,12 +72,20 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
   const lamLo = lw[0];
   const lamHi = lw[lw.length - 1];
   const pairOf = new Map(pairs.filter((q) => q.peak >= 0).map((q) => [q.peak, q]));
+  const strong = strongLinesOf(ctx);
+  // Beyond the lamp's longest line a peak can still be the order-2 image of a strong line (at a first-order reading
+  // of 2λ): such peaks take part too, or a lamp whose list ends in the red (Hg, 709 nm) could never count the images
+  // of its blue and green lines (871, 1092 nm). Only peaks whose colour admits such an image take part (admitsOrder2);
+  // the covered range then spans them, which dilutes every peak's chance alike: the null model stays peaks placed at
+  // random over the covered range. Measured: a mercury tube at 0.86 nm/px (rendered sweep) went from declined to
+  // right, and the synthetic sweeps gained Ar and Ne cases and lost a fluorescent one.
+  const order2Hi = strong.lw.length ? 2 * strong.lw[strong.lw.length - 1] + 1 : -Infinity;
   let covLo = Infinity;
   let covHi = -Infinity;
   const taking: number[] = [];
   for (let q = lowerBound(px, window[0]); q < px.length && px[q] <= window[1]; q++) {
     const lam = wavelengthAtNm(model, px[q]);
-    if ((lam >= lamLo - 1 && lam <= lamHi + 1) || pairOf.has(q)) {
+    if ((lam >= lamLo - 1 && lam <= lamHi + 1) || pairOf.has(q) || (lam <= order2Hi && admitsOrder2(strong, P[q].band, lam, lamHi))) {
       taking.push(q);
       covLo = Math.min(covLo, lam);
       covHi = Math.max(covHi, lam);
@@ -94,7 +102,6 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
   let manualPeaks = 0;
   let secondOrder = 0;
   let pSum = 0;
-  const strong = strongLinesOf(ctx);
   const brightestOf = firstOrderStrength(ctx, pairs);
   for (const q of taking) {
     const pair = pairOf.get(q);
@@ -198,6 +205,17 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
     rmsPx: rmsPx(model, pairs),
     model: model.kind,
   };
+}
+
+/**
+ * Whether a peak beyond the lamp's longest line (first-order reading lamQ) may be an order-2 image at all: its colour
+ * admits a strong line λ with 2λ past that line and within 100 nm of the reading. Which line it lands on plays no part.
+ */
+function admitsOrder2(strong: StrongLines, band: [number, number] | null, lamQ: number, lamHi: number): boolean {
+  for (let s = lowerBound(strong.lw, Math.max(lamHi / 2, lamQ / 2 - 50)); s < strong.lw.length && strong.lw[s] <= lamQ / 2 + 50; s++) {
+    if (!band || (strong.lw[s] >= band[0] && strong.lw[s] <= band[1])) return true;
+  }
+  return false;
 }
 
 /**
