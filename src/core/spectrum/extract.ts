@@ -364,7 +364,7 @@ function extractFromSamples(s: SampledBand, o: Resolved): ExtractedSpectrum {
   }
   if (iterations === 1) noise = fitted(combined, bg, prior, noise, combScale); // a single pass: fit on the box spectrum
   const variance = new Float64Array(N);
-  const weights = EXTRACT_SCRATCH.take('extract.weights', Float32Array, N * M);
+  const weights = EXTRACT_SCRATCH.take('extract.weights', Float32Array, N * M, false); // finalPass writes every one
   const saturated = new Uint8Array(N);
   finalPass(data, bg, profile, mask, s.saturated, layout, prior, noise, combTerms, { flux, variance, weights, saturated });
 
@@ -437,7 +437,7 @@ function extractFromSamples(s: SampledBand, o: Resolved): ExtractedSpectrum {
 function channelMean(planes: Float32Array[]): Float32Array {
   const [p0, p1, p2] = planes;
   const n = p0.length;
-  const out = EXTRACT_SCRATCH.take('extract.channelMean', Float32Array, n);
+  const out = EXTRACT_SCRATCH.take('extract.channelMean', Float32Array, n, false);
   for (let k = 0; k < n; k++) out[k] = (p0[k] + p1[k] + p2[k]) * (1 / 3);
   return out;
 }

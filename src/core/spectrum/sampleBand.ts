@@ -144,14 +144,15 @@ function reuse(prev: SampledBand | undefined, columns: number, rows: number, nPl
     return prev;
   }
   if (scratch) {
-    // Zero-filled like new arrays (scratch.take), so the kernels see what they would see in fresh ones.
+    // The kernels write every sample of the planes (0 outside the image) and every position and offset; `valid` and
+    // `saturated` they only set, so those start at 0 as in new arrays.
     const planes: Float32Array[] = [];
-    for (let c = 0; c < nPlanes; c++) planes.push(scratch.take(PLANE_SLOTS[c], Float32Array, n));
+    for (let c = 0; c < nPlanes; c++) planes.push(scratch.take(PLANE_SLOTS[c], Float32Array, n, false));
     return {
       columns,
       rows,
-      positionPx: scratch.take('sampleBand.positionPx', Float64Array, columns),
-      offsetPx: scratch.take('sampleBand.offsetPx', Float64Array, rows),
+      positionPx: scratch.take('sampleBand.positionPx', Float64Array, columns, false),
+      offsetPx: scratch.take('sampleBand.offsetPx', Float64Array, rows, false),
       planes,
       valid: scratch.take('sampleBand.valid', Uint8Array, n),
       saturated: scratch.take('sampleBand.saturated', Uint8Array, n),

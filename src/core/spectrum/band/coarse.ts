@@ -75,13 +75,13 @@ export function coarseBand(dec: Decimated, residual: Float32Array[], options: Co
   const { median, sigma } = imageSigma(s3, scratch);
   const threshold = median + Math.max(options.detectionSigma * sigma, options.minSignal);
   const mask = takeOrNew(scratch, 'coarse.mask', Uint8Array, w * h);
-  const detected = thresholdMask(s3, threshold, mask, takeOrNew(scratch, 'coarse.detected', Int32Array, w * h));
+  const detected = thresholdMask(s3, threshold, mask, takeOrNew(scratch, 'coarse.detected', Int32Array, w * h, false));
   const any = detected.length;
   if (any < 2) throw noSpectrum(options.source, s3, median, sigma);
   // Weight of a pixel: its signal above the background, capped at the 90th percentile of the detected pixels so that a
   // saturated zero order or lamp does not outweigh the band by its brightness alone.
   const weight = cappedWeights(s3, detected, median, takeOrNew(scratch, 'coarse.weight', Float32Array, w * h));
-  const labelled = takeOrNew(scratch, 'coarse.labels', Int32Array, w * h);
+  const labelled = takeOrNew(scratch, 'coarse.labels', Int32Array, w * h, false); // filled with −1 by labelComponents
   const { components: all, labels } = labelComponents(mask, w, h, weight, residual, dec.clipped, detected, labelled);
   let maxWeight = 0;
   for (const c of all) if (c.weight > maxWeight) maxWeight = c.weight;

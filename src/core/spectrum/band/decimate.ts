@@ -38,8 +38,10 @@ export function decimate(image: LinearImage, factor: number, saturationLevel: nu
   const w = Math.ceil(px.width / f);
   const h = Math.ceil(px.height / f);
   const C = px.channels;
-  const planes = Array.from({ length: C }, (_, c) => takeOrNew(scratch, PLANE_SLOTS[c], Float32Array, w * h));
-  const clipped = takeOrNew(scratch, 'decimate.clipped', Float32Array, w * h);
+  // The copies of blocks of one pixel below write every value; the row loops add to zeros.
+  const copies = f === 1 && C === 3 && (px.codeToLinear === null || (px.clipCode & (px.clipCode + 1)) === 0);
+  const planes = Array.from({ length: C }, (_, c) => takeOrNew(scratch, PLANE_SLOTS[c], Float32Array, w * h, !copies));
+  const clipped = takeOrNew(scratch, 'decimate.clipped', Float32Array, w * h, !copies);
   if (f === 1 && C === 3 && px.codeToLinear === null) {
     // Blocks of one pixel (a decoder's preview, decimatePreview): the row loop's sums and counts of one term each, and
     // no division (by 1) after them — the same values, without the per-block loop overhead (8 ms of a 500 × 375

@@ -50,7 +50,7 @@ export function flattenBackground(planes: Float32Array[], width: number, height:
     }
     const coef = robustSurface(design, values);
     surfaces.push(coef);
-    const out = takeOrNew(scratch, RESIDUAL_SLOTS[c] ?? `flatten.residual${c}`, Float32Array, width * height);
+    const out = takeOrNew(scratch, RESIDUAL_SLOTS[c] ?? `flatten.residual${c}`, Float32Array, width * height, false); // every pixel written
     residual.push(subtractSurface(plane, width, height, coef, out));
   }
   return { residual, surfaces };
@@ -118,8 +118,9 @@ function median(values: number[]): number {
  * loop would add them, so the values are the same to the bit. `scratch` as for flattenBackground.
  */
 export function boxMean3(plane: Float32Array, width: number, height: number, scratch?: Scratch): Float32Array {
-  const tmp = takeOrNew(scratch, 'boxMean3.tmp', Float32Array, width * height);
-  const out = takeOrNew(scratch, 'boxMean3.out', Float32Array, width * height);
+  // Both passes write every pixel.
+  const tmp = takeOrNew(scratch, 'boxMean3.tmp', Float32Array, width * height, false);
+  const out = takeOrNew(scratch, 'boxMean3.out', Float32Array, width * height, false);
   for (let y = 0; y < height; y++) boxRow3(plane, tmp, y * width, width);
   for (let y = 0; y < height; y++) boxColumns3(tmp, out, y, width, height);
   return out;
@@ -154,7 +155,7 @@ function boxColumns3(src: Float32Array, dst: Float32Array, y: number, width: num
 export function imageSigma(plane: Float32Array, scratch?: Scratch): { median: number; sigma: number } {
   const stride = Math.max(1, Math.floor(plane.length / 60000));
   const n = Math.floor((plane.length - 1) / stride) + 1;
-  const s = takeOrNew(scratch, 'imageSigma.sample', Float32Array, n);
+  const s = takeOrNew(scratch, 'imageSigma.sample', Float32Array, n, false); // all n written below
   for (let i = 0, k = 0; i < n; i++, k += stride) s[i] = plane[k];
   const med = selectInPlace(s, n, n >> 1);
   absoluteDeviations(s, n, med);
@@ -173,13 +174,15 @@ function absoluteDeviations(s: Float32Array, n: number, centre: number): void {
  * would touch a new cache line at every step). `scratch` as for flattenBackground.
  */
 export function detailLayer(plane: Float32Array, width: number, height: number, r: number, scratch?: Scratch): Float32Array {
-  const tmp = takeOrNew(scratch, 'detailLayer.tmp', Float32Array, width * height);
+  // tmp and out get every pixel written; columnPrefix every row but the first, which must be 0.
+  const tmp = takeOrNew(scratch, 'detailLayer.tmp', Float32Array, width * height, false);
   const prefix = new Float64Array(width + 1);
   for (let y = 0; y < height; y++) rowWindowMean(plane, tmp, prefix, y * width, width, r);
   // columnPrefix[(y + 1)·width + x] = Σ tmp over rows 0…y of column x.
-  const columnPrefix = takeOrNew(scratch, 'detailLayer.columnPrefix', Float64Array, (height + 1) * width);
+  const columnPrefix = takeOrNew(scratch, 'detailLayer.columnPrefix', Float64Array, (height + 1) * width, false);
+  columnPrefix.fill(0, 0, width);
   for (let y = 0; y < height; y++) addRow(columnPrefix, tmp, y, width);
-  const out = takeOrNew(scratch, 'detailLayer.out', Float32Array, width * height);
+  const out = takeOrNew(scratch, 'detailLayer.out', Float32Array, width * height, false);
   for (let y = 0; y < height; y++) subtractColumnWindowMean(plane, columnPrefix, out, y, width, height, r);
   return out;
 }

@@ -41,7 +41,7 @@ export function spatialProfile(input: ProfileInput): SpatialProfile {
   const { data, valid, rows: M, columns: N, flux } = input;
   const half = Math.max(0, Math.floor(input.windowSamples / 2));
   const scratch = input.scratch;
-  const profile = takeOrNew(scratch, 'profile.profile', Float32Array, M * N);
+  const profile = takeOrNew(scratch, 'profile.profile', Float32Array, M * N, false); // windowedProfile writes every one
 
   // Global profile: Σ_i D_j / Σ_i f, clamped at 0 and normalised (uniform when the band holds no light).
   const global = rowSums(data, valid, M, N);
