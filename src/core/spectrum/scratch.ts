@@ -24,6 +24,14 @@ type TypedArrayOf<T> = T extends Float32ArrayConstructor
 
 type Constructor = Float32ArrayConstructor | Float64ArrayConstructor | Uint8ArrayConstructor | Int32ArrayConstructor;
 
+/**
+ * Largest buffer a slot keeps (bytes). A slot would otherwise hold on to the largest array any photo ever needed (a
+ * band 8000 px long and 500 px high samples three planes of 22 MB); one beyond this is handed out new and not kept, so
+ * a long-running server pins little more than ordinary photos need. The 12-MP bench photo's largest is 1.5 MB (the
+ * detail layer's prefix sums).
+ */
+export const MAX_KEPT_BYTES = 8 * 1024 * 1024;
+
 export class Scratch {
   readonly #buffers = new Map<string, Float32Array | Float64Array | Uint8Array | Int32Array>();
 
@@ -32,6 +40,7 @@ export class Scratch {
    * user left); its buffer grows (by ¼ more than asked) when too short.
    */
   take<C extends Constructor>(slot: string, type: C, length: number, zeroed = true): TypedArrayOf<C> {
+    if (length * type.BYTES_PER_ELEMENT > MAX_KEPT_BYTES) return new type(length) as TypedArrayOf<C>;
     let buffer = this.#buffers.get(slot);
     if (buffer === undefined || buffer.length < length || buffer.constructor !== type) {
       buffer = new type(Math.ceil(length * 1.25));

@@ -5,7 +5,7 @@
 import { describe, expect, it } from 'vitest';
 import { extractSpectrum } from '../../../src/core/spectrum/extract.js';
 import { findBand } from '../../../src/core/spectrum/findBand.js';
-import { Scratch, takeOrNew } from '../../../src/core/spectrum/scratch.js';
+import { MAX_KEPT_BYTES, Scratch, takeOrNew } from '../../../src/core/spectrum/scratch.js';
 import type { BandGeometry, LinearImage } from '../../../src/core/types.js';
 import { renderBandImage } from '../../helpers/bandImage.js';
 
@@ -30,6 +30,17 @@ describe('Scratch.take(slot, type, length)', () => {
     const d = s.take('a', Float64Array, 10);
     expect(d).toBeInstanceOf(Float64Array);
     expect(takeOrNew(undefined, 'a', Uint8Array, 5)).toEqual(new Uint8Array(5));
+  });
+
+  it('keeps no buffer larger than MAX_KEPT_BYTES: such an array is new every time', () => {
+    const s = new Scratch();
+    const n = MAX_KEPT_BYTES / 4 + 1;
+    const a = s.take('big', Float32Array, n);
+    expect(a.length).toBe(n);
+    expect(s.take('big', Float32Array, n).buffer).not.toBe(a.buffer);
+    // A smaller one in the same slot is kept again.
+    const b = s.take('big', Float32Array, 1000);
+    expect(s.take('big', Float32Array, 1000).buffer).toBe(b.buffer);
   });
 });
 
