@@ -254,15 +254,46 @@ describe('calibrateFromPeaks on rendered photos (render → JPEG → decode → 
   // lacked (567.6, 671.6 nm …) at 2–5 % of 546 nm, so 4–7 of 13–21 peaks matched. With Hg I 567.581, 580.378 and
   // 671.634 nm entered, three of them calibrate (and Ne+Hg at 0.90 nm/px): 14; with the order-2 images of 435.8 and
   // 546.1 nm counted where they read beyond the list's 709 nm (scoreSolution), the fourth (0.86 nm/px): 15 of 20, none
-  // wrong. Still declined: He at 1.8 nm/px (5–10 peaks), Ar at 1.02, Ne at 1.13–1.23 nm/px (multi-line blends).
-  it('calibrates ≥ 14 of 20 seeded photos of mercury, neon, helium and argon tubes and none wrongly', async () => {
+  // wrong. With the zero order also seen a little off the members' summed colour (findZeroOrder), He at 1.84 nm/px
+  // (#2): 16 of 20. Still declined: He at 1.77 nm/px (5 lines), Ar at 1.02, Ne at 1.13–1.23 nm/px (multi-line blends).
+  it('calibrates ≥ 15 of 20 seeded photos of mercury, neon, helium and argon tubes and none wrongly', async () => {
     for (let k = 0; k < 20; k++) calibrationSweep.push(await renderedCase(k, CALIBRATION_TUBES, 'lamps'));
     const outcomes = calibrationSweep.map((c) => calibrateCase(c));
     const report = outcomes.map((o, k) => describeCase(k, calibrationSweep[k], o)).join('\n');
     show(report);
     expect(outcomes.flatMap((o, k) => (o.kind === 'calibrated' && !o.right ? [describeCase(k, calibrationSweep[k], o)] : []))).toEqual([]);
-    expect(right(outcomes), report).toBeGreaterThanOrEqual(14);
+    expect(right(outcomes), report).toBeGreaterThanOrEqual(15);
   }, 600_000);
+
+  // The band search's zero order on both sweeps' photos: where the renderer put it, when it is in the frame, and never
+  // when it is not. Measured: seen in 26 of the 29 photos with it in the frame before findZeroOrder (coarse.ts) took a
+  // zero order a little off the members' summed colour or a little fainter than the median member; 28 after, all
+  // within 1.4 px, none seen when out of the frame. The one still missed (Ar at 1.23 nm/px) lies 32 px inside the band
+  // from its start (the search kept it as the band's first member).
+  it('finds the zero order where the renderer put it in ≥ 28 of the photos with it in the frame, and none elsewhere', () => {
+    let inFrame = 0;
+    let seen = 0;
+    const misplaced: string[] = [];
+    for (const [sweep, cases] of [['first', firstSweep], ['calibration', calibrationSweep]] as const) {
+      expect(cases.length, `the ${sweep} sweep's photos (rendered by the tests above)`).toBeGreaterThan(0);
+      cases.forEach((c, k) => {
+        const truth = c.photo.truth.zeroOrder;
+        const found = c.analysis.band?.zeroOrderPx;
+        if (!truth?.inFrame) {
+          if (found !== undefined) misplaced.push(`${sweep} #${k}: seen at ${found.toFixed(1)} px, out of the frame`);
+          return;
+        }
+        inFrame++;
+        if (found === undefined) return void (process.env.SWEEP_REPORT && console.log(`zero order missed: ${sweep} #${k} at ${imageToBandPx(c.analysis.band!, truth.imagePx).positionPx.toFixed(1)} px of a ${c.analysis.band!.lengthPx.toFixed(0)}-px band`));
+        const offPx = Math.abs(found - imageToBandPx(c.analysis.band!, truth.imagePx).positionPx);
+        if (offPx <= 2) seen++;
+        else misplaced.push(`${sweep} #${k}: ${offPx.toFixed(1)} px off`);
+      });
+    }
+    expect(misplaced).toEqual([]);
+    expect(inFrame).toBe(29);
+    expect(seen).toBeGreaterThanOrEqual(28);
+  });
 
   // A wrong lamp must never give a scale, the zero order's agreement counted or not: every photo of both sweeps
   // against two lamps of other elements (Ne, Ar, Xe, Kr, He, Hg in turn). Measured: all 72 declined.
