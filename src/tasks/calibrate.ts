@@ -13,7 +13,8 @@ import { dispersionAtNmPerPx, wavelengthAtNm } from '../core/calibration/model.j
 import { buildProfile, type InstrumentProfile } from '../core/calibration/profile.js';
 import { InputError, parseNumberOption } from '../core/errors.js';
 import { lampLines, type LampLines } from '../core/lines/index.js';
-import type { BandGeometry } from '../core/types.js';
+import { strength } from '../core/calibration/match/context.js';
+import type { BandGeometry, Peak } from '../core/types.js';
 import { airToVacuumNm } from '../core/units/airVacuum.js';
 import { lampLinesFor, loadLampCatalog } from '../io/lineList.js';
 import { writeProfile } from '../io/profileFile.js';
@@ -312,16 +313,23 @@ export async function runCalibrate(input: string, opts: CalibrateOptions): Promi
   const modelChoice = opts.model === 'poly' ? 'polynomial' : opts.model;
   // A zero order in the photo is the 0 nm point of a first-order scale: evidence for the scale that puts it there.
   const zeroOrder = order === 1 ? zeroOrderSighting(analysis.band?.zeroOrderPx) : null;
-  const result = calibrateFromPeaks(analysis.peaks, lamp ? lamp.lines : null, {
-    pairs,
-    match: { direction: opts.direction, zeroOrder },
-    linesAtResolution: opts.lamp ? (resolutionNm) => calibrationLines(opts.lamp!, resolutionNm).lines : null,
-    fit: {
-      model: modelChoice,
-      degree: degree ?? null,
-      grating: { order, focalLengthPx: priors.focalLengthPx, axisPositionPx: priors.axisPositionPx },
-    },
-  });
+  let result: CalibrationResult;
+  try {
+    result = calibrateFromPeaks(analysis.peaks, lamp ? lamp.lines : null, {
+      pairs,
+      match: { direction: opts.direction, zeroOrder },
+      linesAtResolution: opts.lamp ? (resolutionNm) => calibrationLines(opts.lamp!, resolutionNm).lines : null,
+      fit: {
+        model: modelChoice,
+        degree: degree ?? null,
+        grating: { order, focalLengthPx: priors.focalLengthPx, axisPositionPx: priors.axisPositionPx },
+      },
+    });
+  } catch (e) {
+    // The lamp's lines were declined: say where the brightest peaks are, for --pairs.
+    if (e instanceof InputError && e.source === 'lamp') throw new InputError(`${e.message}${brightestPeaksHint(analysis.peaks)}`, e.source);
+    throw e;
+  }
   const warnings = [...analysis.warnings, ...(lamp?.warnings ?? []), ...result.warnings];
   if (result.fit.model.kind === 'grating' && priors.focalLengthSource === 'fitted') {
     warnings.push('no focal length known (no EXIF 35-mm focal length, no --focal-px): f was fitted, and the line density is correspondingly uncertain');
@@ -350,3 +358,20 @@ export async function runCalibrate(input: string, opts: CalibrateOptions): Promi
   return { report, profile };
 }
 
+/** The positions of the brightest peaks, for a user who must name two of them with --pairs. */
+function brightestPeaksHint(peaks: readonly Peak[]): string {
+  const shown = [...peaks]
+    .filter((p) => Number.isFinite(p.positionPx))
+    .sort((a, b) => strength(b) - strength(a))
+    .slice(0, BRIGHTEST_PEAKS_SHOWN)
+    .sort((a, b) => a.positionPx - b.positionPx);
+  if (shown.length < 2) return '';
+  const list = shown.map((p) => `${p.positionPx.toFixed(1)}${p.saturated ? ' (saturated)' : ''}`).join(', ');
+  // The example pairs the two unsaturated ones farthest apart (a clipped peak's centre is the less certain).
+  const clean = shown.filter((p) => !p.saturated);
+  const [a, b] = clean.length >= 2 ? [clean[0], clean[clean.length - 1]] : [shown[0], shown[shown.length - 1]];
+  return ` (the brightest peaks lie at ${list} px; name two you know, e.g. --pairs ${a.positionPx.toFixed(1)}=…,${b.positionPx.toFixed(1)}=…; the spectrum's peak table lists them all)`;
+}
+
+/** How many of the brightest peaks the declined-lamp message names. */
+const BRIGHTEST_PEAKS_SHOWN = 5;

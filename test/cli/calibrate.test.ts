@@ -141,6 +141,15 @@ describe('glowprint calibrate: bad input gets one clear message, exit 1, nothing
     expect(r.stderr.trim().split('\n')).toHaveLength(1);
     expect(r.stderr).toMatch(/glowprint: the lamp's lines do not match the peaks.*chance.*check --lamp or give --pairs/);
     expect(readFileSync(keep, 'utf8')).toBe('{"mine": true}\n');
+    // … and says where the five brightest peaks are, for --pairs: the photo's own, by the peak table's prominence.
+    const listed = /the brightest peaks lie at ([^;]+) px; name two you know, e\.g\. --pairs ([\d.]+)=…,([\d.]+)=…/.exec(r.stderr);
+    expect(listed, r.stderr).not.toBeNull();
+    const shown = listed![1].split(', ').map((t) => Number.parseFloat(t));
+    const peaks = JSON.parse(runCli(['spectrum', CFL, '--json']).stdout).peaks as Array<{ position_px: number; prominence: number }>;
+    const brightest = [...peaks].sort((a, b) => b.prominence - a.prominence).slice(0, 5).map((p) => Number(p.position_px.toFixed(1)));
+    expect(shown).toEqual([...brightest].sort((a, b) => a - b));
+    expect(shown).toContain(Number.parseFloat(listed![2]));
+    expect(shown).toContain(Number.parseFloat(listed![3]));
   });
 
   it('a single laser line cannot calibrate alone', () => {
