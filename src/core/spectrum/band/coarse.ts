@@ -358,9 +358,9 @@ function colourGradient(c: Component, label: number, labels: Int32Array, planes:
  * qualifies when a gap of at least 35 % of the rest's span (and 6 px) parts it from the rest and it looks like their
  * undispersed sum: chromaticity within 0.15 of the rest's summed chromaticity, or clipped to near white; without
  * colour the gap must exceed 1.2 × the rest's span. (The zero order also holds the light of lines too faint, or too far
- * in the violet or red, to be members: a rendered helium tube's was 0.125 off, and missed at the former 0.12; on the
- * 36 photos of the rendered sweeps (renderedSweep.test.ts) the band search now sees it in 28 of the 29 where it is in the frame,
- * within 1.4 px, and in none of the others.)
+ * in the violet or red, to be members: a rendered helium tube's was 0.125 off, and missed at the former 0.12. On the
+ * 36 photos of the rendered sweeps, renderedSweep.test.ts, the band search now sees it in 28 of the 29 where it is in
+ * the frame, within 1.4 px, and in none of the others.)
  */
 function findZeroOrder(members: Component[], ux: number, uy: number, along: (c: Component) => number, colour: boolean): number | null {
   const ends = [0, members.length - 1];
