@@ -10,14 +10,19 @@ import { type BenchFigure, type BenchSection, median } from './section.js';
 import { renderSpectroscopePhoto } from '../src/core/render/index.js';
 import { encodeRenderedPhoto } from '../src/io/writeRenderedPhoto.js';
 
-/** Timed runs of each task; the median is reported. */
-const RUNS = 7;
+/**
+ * Timed runs of each task, interleaved in pairs (decode, pipeline); the figure is the median of the pairs' ratios, so
+ * that load from other processes, which comes and goes, falls on both halves of a pair alike. With 7 runs the figure
+ * moved by ±0.1× between back-to-back runs on a machine shared with a test run; 15 halve that (√2 less, and fewer
+ * pairs in a burst of load).
+ */
+const RUNS = 15;
 /**
  * Untimed runs first. V8 compiles a function that runs a few times per photo only after several photos (--trace-opt:
- * compiles went on through the 4th–5th photo in one process), so one warm-up left part of that work in the timed
- * runs; the first-run figure below is the cold case.
+ * compiles went on through the 4th–5th photo in one process; with 3 warm-ups the first two timed pipelines took
+ * 150–200 ms against ~100 after), so those are left out; the first-run figure below is the cold case.
  */
-const WARMUP = 3;
+const WARMUP = 6;
 
 /**
  * `glowprint spectrum` on a 12-MP JPEG: time of the whole pipeline (decode + band + extraction + peaks) as a ratio to
@@ -72,6 +77,8 @@ export const spectrumSection: BenchSection = {
     };
     const floorMedian = median(floorMs);
     const pipelineMedian = median(pipelineMs);
+    const ratios = pipelineMs.map((ms, k) => ms / floorMs[k]).sort((a, b) => a - b);
+    const quartile = (q: number): number => ratios[Math.round(q * (ratios.length - 1))];
     // CPU time of the process (all threads: decoder, JIT, GC) is far less disturbed by other processes than wall time
     // on a busy machine; its ratio says whether a wall-time figure off target is the code or the load.
     const cpuRatio = median(pipelineCpuMs) / median(floorCpuMs);
@@ -88,12 +95,12 @@ export const spectrumSection: BenchSection = {
     return [
       {
         name: 'time, spectrum pipeline ÷ sharp decode',
-        value: pipelineMedian / floorMedian,
+        value: median(ratios),
         unit: '×',
         target: 2.0,
         kind: 'max',
         detail:
-          `median of ${RUNS} after ${WARMUP} warm-up runs: pipeline ${pipelineMedian.toFixed(0)} ms (${peaks} peaks), sharp(file).raw().toBuffer() ` +
+          `median of ${RUNS} paired ratios after ${WARMUP} warm-up runs (quartiles ${quartile(0.25).toFixed(2)}–${quartile(0.75).toFixed(2)}×): pipeline ${pipelineMedian.toFixed(0)} ms (${peaks} peaks), sharp(file).raw().toBuffer() ` +
           `${floorMedian.toFixed(0)} ms; stage medians ${stages} (preview: the JPEG's 1/8-scale decode; coarse: the band ` +
           `search on it; rows: the decode of the band's rows only; rows-missed and decode appear when the band needed ` +
           `more of the photo and the whole of it was decoded). ` +
