@@ -248,7 +248,8 @@ export class SpectrumView {
         if (y < vmin) vmin = y;
       }
     }
-    const target = Math.max(vmax * 1.12, 1e-9);
+    // Nothing above zero in view (no spectrum yet, a dark frame): a 0–1 axis, not one of nano-units around nothing.
+    const target = vmax > 0 ? vmax * 1.12 : 1;
     this.yMax = this.options.live ? (target > this.yMax || target < 0.6 * this.yMax ? target : this.yMax) : target;
     const y = d3.scaleLinear().domain([Math.min(0, vmin * 1.1), this.yMax]).range([this.innerH, 0]).nice(6);
     const plot = this.plot;
