@@ -407,7 +407,10 @@ function searchLines(
   // The zero order's agreement is evidence of its own; with a zero order given, a scale may pass by the lines alone or
   // by lines and zero order: two tests, so the trials double (Bonferroni).
   if (o.zeroOrder) {
-    for (const sol of solutions) withZeroOrder(sol, o.zeroOrder, o.dispersionNmPerPx);
+    for (let i = 0; i < solutions.length; i++) {
+      solutions[i] = vetoZeroOrderDisagreement(solutions[i], o.zeroOrder);
+      withZeroOrder(solutions[i], o.zeroOrder, o.dispersionNmPerPx);
+    }
     solutions.sort(byScore);
   }
   const trialsLog10 = log10Trials + (o.zeroOrder ? Math.log10(2) : 0);
@@ -496,6 +499,24 @@ function zeroOrderAgreement(
   zero: ZeroOrderSighting,
   dispersionNmPerPx: [number, number],
 ): MatchScore['zeroOrder'] | null {
+  const z = zeroOrderPrediction(sol, zero);
+  if (!z) return null;
+  const { predictedPx } = z;
+  const halfWidthPx = ZERO_ORDER_SIGMA * z.sigmaPx;
+  if (!(Math.abs(predictedPx - zero.positionPx) <= halfWidthPx)) return null;
+  const centre = 0.5 * (sol.pairs[0].x + sol.pairs[sol.pairs.length - 1].x);
+  const distancePx = Math.abs(zero.positionPx - centre);
+  const logRange = Math.log(dispersionNmPerPx[1] / dispersionNmPerPx[0]);
+  const probability = Math.min(1, (2 * 2 * halfWidthPx) / (distancePx * logRange));
+  return { predictedPx, halfWidthPx, log10Probability: Math.log10(probability) };
+}
+
+/**
+ * Where a solution's first-order grating model reads 0 nm (x̂ = x0 − s f tan θc, see zeroOrderAgreement) and the
+ * standard uncertainty of its distance from the sighting (the model's covariance of θc, x0 and f, and the sighting's
+ * own); null without such a model.
+ */
+function zeroOrderPrediction(sol: Solution, zero: ZeroOrderSighting): { predictedPx: number; sigmaPx: number } | null {
   const m = sol.model;
   if (m.kind !== 'grating' || m.order !== 1 || m.incidenceAngleDeg !== 0 || sol.pairs.length < 2) return null;
   const rad = Math.PI / 180;
@@ -506,13 +527,24 @@ function zeroOrderAgreement(
   const J = [0, -m.direction * m.focalLengthPx * sec2 * rad, 1, -m.direction * Math.tan(th)];
   let variance = zero.uncertaintyPx ** 2;
   for (let a = 0; a < 4; a++) for (let b = 0; b < 4; b++) variance += J[a] * m.covariance[a][b] * J[b];
-  const halfWidthPx = ZERO_ORDER_SIGMA * Math.sqrt(variance);
-  if (!(Math.abs(predictedPx - zero.positionPx) <= halfWidthPx)) return null;
-  const centre = 0.5 * (sol.pairs[0].x + sol.pairs[sol.pairs.length - 1].x);
-  const distancePx = Math.abs(zero.positionPx - centre);
-  const logRange = Math.log(dispersionNmPerPx[1] / dispersionNmPerPx[0]);
-  const probability = Math.min(1, (2 * 2 * halfWidthPx) / (distancePx * logRange));
-  return { predictedPx, halfWidthPx, log10Probability: Math.log10(probability) };
+  return { predictedPx, sigmaPx: Math.sqrt(variance) };
+}
+
+/** A grating scale whose 0 nm lies this many standard deviations or more from the zero order seen is ruled out. */
+const ZERO_ORDER_VETO_SIGMA = 6;
+
+/**
+ * The solution, or it with no significance when the zero order is seen and its first-order grating model reads
+ * 0 nm ZERO_ORDER_VETO_SIGMA or more from it: the undiffracted light is where every order's 0 nm lies, so such a scale
+ * is not the photo's (the lines it matched do so by chance, a stretch of the list aliased onto the peaks: a xenon
+ * photo's visible lines read as its infrared ones under half the line density, seen on a rendered photo). A scale
+ * with no grating model, or one too loose to place its zero order, is not judged. A false sighting can only make a
+ * right scale decline.
+ */
+function vetoZeroOrderDisagreement(sol: Solution, zero: ZeroOrderSighting): Solution {
+  const z = zeroOrderPrediction(sol, zero);
+  if (!z || !(Math.abs(z.predictedPx - zero.positionPx) >= ZERO_ORDER_VETO_SIGMA * z.sigmaPx)) return sol;
+  return { ...sol, score: { ...sol.score, log10Chance: 0, log10Multiplicity: 0 } };
 }
 
 /** Counts the zero order's agreement in the solution's score, once. */
