@@ -37,7 +37,7 @@ const peaks = prepareLines(lines, [400, 700])
   .map((l) => peak(xOf(l.wavelengthNm), 1000 * l.rank));
 
 /** As `glowprint calibrate` matches with priors from the photo: f within 5 %, the axis within 100 px. */
-const options = (zeroOrderPx: number | null): MatchLinesOptions => ({
+const options = (zeroOrderPx: number | null): Partial<MatchLinesOptions> => ({
   ...CALIBRATE_MATCH_DEFAULTS,
   grating: { order: 1, focalLengthPx: { value: F_PX, sigma: 0.05 * F_PX }, axisPositionPx: { value: X0_PX, sigma: 100 } },
   zeroOrder: zeroOrderPx === null ? null : { positionPx: zeroOrderPx, uncertaintyPx: 2 },
