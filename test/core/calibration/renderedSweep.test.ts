@@ -233,14 +233,17 @@ describe('calibrateFromPeaks on rendered photos (render → JPEG → decode → 
   // (#5 and #10 added, each with the zero order within its window), none wrong. A declined search tried again from
   // the zero order's seeds (zeroOrderSeeds.ts) adds #7 (Xe, 0.38 nm/px, 10 lines) and #13 (Ne+Hg, 1.40 nm/px, 5 lines):
   // 9 right, none wrong. With Hg I 567.581, 580.378 and 671.634 nm in the list, #3 (Ne+Hg, 1.02 nm/px, 17 lines) is
-  // added: 10 right, none wrong. The floors sit a photo under.
-  it(`calibrates ≥ 9 of ${PHOTOS} seeded photos of the issue's instruments automatically and none wrongly`, async () => {
+  // added: 10 right, none wrong. With nine more Kr I lines in the list (428–442 and 565–642 nm, the yellow-green lines
+  // beside 557 and 587 nm), #9 (Kr, 0.36 nm/px, 9 lines) is added: 11 right, none wrong; the two other Kr photos
+  // still decline (6 of 7 and 6 of 13 peaks matched at 0.87–0.90 nm/px, where chance gives 2.6–2.8). The floors sit a
+  // photo under.
+  it(`calibrates ≥ 10 of ${PHOTOS} seeded photos of the issue's instruments automatically and none wrongly`, async () => {
     for (let k = 0; k < PHOTOS; k++) firstSweep.push(await renderedCase(k, TUBES, 'sweep'));
     const outcomes = firstSweep.map((c) => calibrateCase(c));
     const report = outcomes.map((o, k) => describeCase(k, firstSweep[k], o)).join('\n');
     show(report);
     expect(outcomes.flatMap((o, k) => (o.kind === 'calibrated' && !o.right ? [describeCase(k, firstSweep[k], o)] : []))).toEqual([]);
-    expect(right(outcomes), report).toBeGreaterThanOrEqual(9);
+    expect(right(outcomes), report).toBeGreaterThanOrEqual(10);
     // Without the zero order the same photos give 5: the zero order is what adds the rest.
     const without = firstSweep.map((c) => calibrateCase(c, { zeroOrder: false }));
     expect(without.flatMap((o, k) => (o.kind === 'calibrated' && !o.right ? [describeCase(k, firstSweep[k], o)] : []))).toEqual([]);
