@@ -235,15 +235,16 @@ describe('calibrateFromPeaks on rendered photos (render → JPEG → decode → 
   // 9 right, none wrong. With Hg I 567.581, 580.378 and 671.634 nm in the list, #3 (Ne+Hg, 1.02 nm/px, 17 lines) is
   // added: 10 right, none wrong. With nine more Kr I lines in the list (428–442 and 565–642 nm, the yellow-green lines
   // beside 557 and 587 nm), #9 (Kr, 0.36 nm/px, 9 lines) is added: 11 right, none wrong; the two other Kr photos
-  // still decline (6 of 7 and 6 of 13 peaks matched at 0.87–0.90 nm/px, where chance gives 2.6–2.8). The floors sit a
-  // photo under.
-  it(`calibrates ≥ 10 of ${PHOTOS} seeded photos of the issue's instruments automatically and none wrongly`, async () => {
+  // still decline (6 of 7 and 6 of 13 peaks matched at 0.87–0.90 nm/px, where chance gives 2.6–2.8). With the zero
+  // order taken at a gap of 0.3 (was 0.35) of the other members' span (findZeroOrder), #11 (Ar, 1.23 nm/px, its zero
+  // order 0.33 of the span from the lines) is added: 12 right, none wrong. The floors sit a photo under.
+  it(`calibrates ≥ 11 of ${PHOTOS} seeded photos of the issue's instruments automatically and none wrongly`, async () => {
     for (let k = 0; k < PHOTOS; k++) firstSweep.push(await renderedCase(k, TUBES, 'sweep'));
     const outcomes = firstSweep.map((c) => calibrateCase(c));
     const report = outcomes.map((o, k) => describeCase(k, firstSweep[k], o)).join('\n');
     show(report);
     expect(outcomes.flatMap((o, k) => (o.kind === 'calibrated' && !o.right ? [describeCase(k, firstSweep[k], o)] : []))).toEqual([]);
-    expect(right(outcomes), report).toBeGreaterThanOrEqual(10);
+    expect(right(outcomes), report).toBeGreaterThanOrEqual(11);
     // Without the zero order the same photos give 5: the zero order is what adds the rest.
     const without = firstSweep.map((c) => calibrateCase(c, { zeroOrder: false }));
     expect(without.flatMap((o, k) => (o.kind === 'calibrated' && !o.right ? [describeCase(k, firstSweep[k], o)] : []))).toEqual([]);
@@ -280,9 +281,10 @@ describe('calibrateFromPeaks on rendered photos (render → JPEG → decode → 
   // The band search's zero order on both sweeps' photos: where the renderer put it, when it is in the frame, and never
   // when it is not. Measured: seen in 26 of the 29 photos with it in the frame before findZeroOrder (coarse.ts) took a
   // zero order a little off the members' summed colour or a little fainter than the median member; 28 after, all
-  // within 1.4 px, none seen when out of the frame. The one still missed (Ar at 1.23 nm/px) lies 32 px inside the band
-  // from its start (the search kept it as the band's first member).
-  it('finds the zero order where the renderer put it in ≥ 28 of the photos with it in the frame, and none elsewhere', () => {
+  // within 1.4 px, none seen when out of the frame. The one still missed (Ar at 1.23 nm/px, 32 px inside the band from
+  // its start: the search kept it as the band's first member) stood at a gap of 0.33 of the other members' span, short
+  // of the 0.35 then asked; at 0.3 all 29 are seen, none misplaced.
+  it('finds the zero order where the renderer put it in all 29 photos with it in the frame, and none elsewhere', () => {
     let inFrame = 0;
     let seen = 0;
     const misplaced: string[] = [];
@@ -304,7 +306,7 @@ describe('calibrateFromPeaks on rendered photos (render → JPEG → decode → 
     }
     expect(misplaced).toEqual([]);
     expect(inFrame).toBe(29);
-    expect(seen).toBeGreaterThanOrEqual(28);
+    expect(seen).toBe(29);
   });
 
   // A wrong lamp must never give a scale, the zero order's agreement counted or not: every photo of both sweeps
