@@ -407,7 +407,8 @@ function findZeroOrder(members: Component[], ux: number, uy: number, along: (c: 
     const ownHeight = 2 * SQRT3 * spreadAlong(c, -uy, ux);
     if (ax.major <= 1.6 * ax.minor && (ownHeight < 0.7 * bandHeight || ownHeight > 1.35 * bandHeight)) points++;
     // The gap is judged against the span of the rest: 0.3 of it at least (an argon tube at 1.23 nm/px, its lines
-    // bunched far from a zero order seen off the camera axis, gives 0.33; a lone Hα beyond the Balmer lines gives 2).
+    // bunched far from a zero order seen off the camera axis, gives 0.33; a lone Hα beyond Hβ–Hδ stands about 2 from
+    // them on a linear scale: 170 nm of gap over a 76-nm span).
     if (gap >= 6 && ratio >= 0.3) points += !colour && ratio >= 1.2 ? 2 : 1;
     if (points >= 2 && ratio > bestRatio) {
       best = e;
