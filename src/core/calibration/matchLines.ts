@@ -26,10 +26,10 @@ export type { MatchScore } from './match/scoreSolution.js';
  * 4. Significance (match/scoreSolution.ts): matches beyond the model's fitted parameters against the binomial count
  *    chance gives, times the number of scale hypotheses. The best solution must beat chance by a wide margin, else
  *    the lamp is declared not to match: a wrong lamp never yields a scale. A peak where the scale reads 2λ for a strong
- *    line λ it matches in order 1 (no brighter than that line's peak) is the line's order-2 image (the grating
- *    equation m λ = d (sin θi + sin θ)): it counts as a match, its hypotheses in the chance per peak, and is reported
- *    apart (MatchResult.secondOrder), never fitted. When the photo's geometry gives priors for
- *    the physical grating model, the best solutions are scored with it too: its few effective parameters are what the
+ *    line λ (no brighter than the order-1 peak λ falls in, matched or blended) is the line's order-2 image (the
+ *    grating equation m λ = d (sin θi + sin θ)): it counts as a match, its hypotheses in the chance per peak, and is
+ *    reported apart (MatchResult.secondOrder), never fitted. When the photo's geometry gives priors for the physical
+ *    grating model, the best solutions are scored with it too: its few effective parameters are what the
  *    physics leaves free, where a polynomial spends four.
  */
 export interface ManualPair {
@@ -142,8 +142,8 @@ export interface MatchResult {
   message: string;
   matches: LineMatch[];
   /**
-   * Peaks the scale explains as the order-2 image of a line it matches in order 1 (at a first-order reading of 2λ,
-   * no brighter than that line's peak): counted as evidence in the score, never used to fit the scale. residualPx is
+   * Peaks the scale explains as the order-2 image of a strong line (at a first-order reading of 2λ, no brighter than
+   * the order-1 peak the line falls in, matched to it or a blend holding it): counted as evidence in the score, never used to fit the scale. residualPx is
    * measured − predicted position of the image (the order-1 scale reads 2λ there).
    */
   secondOrder: LineMatch[];
@@ -286,6 +286,7 @@ function searchLines(
     band: o.useColour && !p.saturated ? colourBandNm(p.rgb, o.colour) : null,
     saturated: p.saturated,
     blended: p.blended,
+    fwhmPx: p.fwhmPx,
   }));
   const px = Float64Array.from(P, (p) => p.x);
   const L = prepareLines(lines, o.wavelengthRangeNm);

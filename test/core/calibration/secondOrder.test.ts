@@ -1,8 +1,8 @@
 /**
  * Order-2 images in the line search: a transmission grating sends each line into order 2 as well, where a scale
  * calibrated in order 1 reads twice its wavelength (m λ = d (sin θi + sin θ), the grating equation). The matcher
- * takes a peak there as the image of a strong line it matched in order 1, counts it as evidence with its own
- * hypotheses in the chance model, and never fits the scale with it.
+ * takes a peak there as the image of a strong line whose order-1 peak it finds (matched to the line, or a blend
+ * holding it), counts it as evidence with its own hypotheses in the chance model, and never fits the scale with it.
  */
 import { describe, expect, it } from 'vitest';
 import { CALIBRATE_MATCH_DEFAULTS } from '../../../src/core/calibration/calibrate.js';
@@ -90,5 +90,27 @@ describe('matchLines(peaks with order-2 images of strong lines)', () => {
     const without = matchLines(base, hg, CALIBRATE_MATCH_DEFAULTS);
     expect(without.score!.secondOrder).toBe(0);
     expect(r.score!.falseMatchProbability).toBeLessThan(without.score!.falseMatchProbability);
+  });
+  it("counts the image of a line whose order-1 light lies in an unresolved blend matched to no line, within the blend's half width only", () => {
+    // The 435.833 nm peak replaced by a broad blend centred 3 px (1.5 nm) to the red: its centroid is no line's
+    // position, so no line is matched to it, yet 435.833 nm lies within its half width and shares its light.
+    const nm = 435.833;
+    const base = firstOrder();
+    const i = base.findIndex((p) => Math.abs(p.positionPx - xOf(nm)) < 0.5);
+    const strength = base[i].prominence;
+    const withBlend = (fwhmPx: number) => {
+      const peaks = [...base];
+      peaks[i] = { ...peak(xOf(nm) + 3, 1.2 * strength), fwhmPx, blended: true };
+      return [...peaks, peak(xOf(2 * nm), 0.1 * strength)];
+    };
+    const wide = matchLines(withBlend(10), lines, CALIBRATE_MATCH_DEFAULTS);
+    expect(wide.accepted).toBe(true);
+    expect(wide.matches.map((m) => m.wavelengthNm)).not.toContain(nm);
+    expect(wide.secondOrder.map((m) => m.wavelengthNm)).toContain(nm);
+    // A blend too narrow to hold the line (half width 1.5 px < 3 px) gives it no order-1 light: no image.
+    const narrow = matchLines(withBlend(3), lines, CALIBRATE_MATCH_DEFAULTS);
+    expect(narrow.accepted).toBe(true);
+    expect(narrow.matches.map((m) => m.wavelengthNm)).not.toContain(nm);
+    expect(narrow.secondOrder.map((m) => m.wavelengthNm)).not.toContain(nm);
   });
 });

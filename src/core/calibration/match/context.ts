@@ -14,6 +14,8 @@ export interface PeakItem {
   band: [number, number] | null;
   saturated: boolean;
   blended: boolean;
+  /** Full width at half maximum (px), where the peak finder measured it. */
+  fwhmPx?: number;
 }
 
 export interface LineItem {

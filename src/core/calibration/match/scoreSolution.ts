@@ -8,14 +8,15 @@
  * Order 2: a grating puts each line's order-2 image where the order-1 scale reads 2λ. An unmatched peak within the
  * tolerance of 2λ for a strong line (SECOND_ORDER_MIN_RANK, fixed by the line list) counts as a match, and every
  * peak's chance p_i then includes those windows too (the union bound: P(order 1 or order 2) ≤ p1 + p2), so the tail
- * stays a bound on chance. The success is further restricted to images no brighter than the line's own matched
- * order-1 peak; a narrower success event under the same p_i keeps the bound valid (conservative). Counting them as
+ * stays a bound on chance. The success is further restricted to images no brighter than the order-1 peak the line's
+ * light falls in (the peak matched to it, or the blend its scale position lies in: firstOrderStrength); a narrower
+ * success event under the same p_i keeps the bound valid (conservative). Counting them as
  * evidence, not merely dropping them from the unexplained pool, avoids a selection the chance model does not see:
  * dropping failures chosen by a rule that depends on the order-1 matches would bias the binomial count.
  */
-import { dispersionAtNmPerPx, wavelengthAtNm, type DispersionModel } from '../model.js';
+import { dispersionAtNmPerPx, positionAtPx, wavelengthAtNm, type DispersionModel } from '../model.js';
 import { log10BinomialTail } from '../significance.js';
-import { type Ctx, lineSigmaNm, lowerBound, median, type Pair, sigmaOf } from './context.js';
+import { type Ctx, lineSigmaNm, lowerBound, median, nearest, type Pair, sigmaOf } from './context.js';
 import type { GrownSolution } from './growSolution.js';
 import { rmsPx } from './quickFit.js';
 
@@ -23,8 +24,8 @@ export interface MatchScore {
   /** Matched peaks that count as evidence (see scoreSolution). */
   matched: number;
   /**
-   * Peaks matched as the order-2 image of a strong line the solution matches in order 1 (see scoreSolution): evidence
-   * beside `matched`, with their hypotheses in the chance per peak; never part of the fit.
+   * Peaks matched as the order-2 image of a strong line whose order-1 peak the solution finds (see scoreSolution):
+   * evidence beside `matched`, with their hypotheses in the chance per peak; never part of the fit.
    */
   secondOrder: number;
   /** Peaks that take part: inside the lamp's line range and able to count either way. */
@@ -102,7 +103,7 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
   let manualPeaks = 0;
   let secondOrder = 0;
   let pSum = 0;
-  const brightestOf = firstOrderStrength(ctx, pairs);
+  const brightestOf = firstOrderStrength(ctx, solution);
   for (const q of taking) {
     const pair = pairOf.get(q);
     const disp = Math.abs(dispersionAtNmPerPx(model, px[q]));
@@ -143,9 +144,12 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
       const sigma2 = windows ? Math.hypot(centroidNm, 2 * ctx.L[l].sigmaNm) : 0;
       sigma2Sum += sigma2;
       const off = Math.abs(lamQ - 2 * strong.lw[s]);
-      // A match only when the line is matched in order 1 at least as bright: an order-2 image outshining its own
-      // first order is no grating's (this only narrows the success event, so the chance bound stays valid).
-      if (off <= half && off < off2 && (brightestOf.get(l) ?? -1) >= P[q].strength) {
+      // A match only when the line's order-1 peak is at least as bright: an order-2 image outshining its own first
+      // order is no grating's (this only narrows the success event, so the chance bound stays valid). Measured: a
+      // helium tube at 1.77 nm/px (rendered sweep) whose 501.6 nm line lies in an unresolved blend with 492.2 nm,
+      // matched to neither, went from declined (10^-1.9) to right once that blend's brightness counted for it;
+      // the synthetic sweeps and every wrong-lamp search of both unchanged.
+      if (off <= half && off < off2 && brightestOf(l) >= P[q].strength) {
         hit2 = s;
         off2 = off;
         sigma2Hit = sigma2;
@@ -254,23 +258,37 @@ function strongLinesOf(ctx: Ctx): StrongLines {
   return s;
 }
 
-/** The strength of the brightest peak each line is matched to in order 1 (by line index). */
-function firstOrderStrength(ctx: Ctx, pairs: readonly Pair[]): Map<number, number> {
+/**
+ * The strength of the order-1 peak a line's light falls in (by line index), or −1: the brightest peak the solution
+ * matches the line to, else the peak within half its FWHM (at least the tolerance) of where the solution's scale puts
+ * the line — a blend whose centroid lies between its lines is matched to none of them, yet holds each one's light.
+ */
+function firstOrderStrength(ctx: Ctx, solution: GrownSolution): (line: number) => number {
   const m = new Map<number, number>();
-  for (const q of pairs) if (q.peak >= 0 && q.line >= 0) m.set(q.line, Math.max(m.get(q.line) ?? 0, ctx.P[q.peak].strength));
-  return m;
+  for (const q of solution.pairs) if (q.peak >= 0 && q.line >= 0) m.set(q.line, Math.max(m.get(q.line) ?? 0, ctx.P[q.peak].strength));
+  const [lo, hi] = solution.window;
+  return (line) => {
+    const own = m.get(line);
+    if (own !== undefined) return own;
+    const x = positionAtPx(solution.model, ctx.L[line].wavelengthNm, lo, hi);
+    const k = x === null ? -1 : nearest(ctx.px, x);
+    const p = k >= 0 ? ctx.P[k] : null;
+    const s = p && Math.abs(p.x - x!) <= Math.max(solution.tolerancePx, 0.5 * (p.fwhmPx ?? 0)) ? p.strength : -1;
+    m.set(line, s);
+    return s;
+  };
 }
 
 /**
  * The peaks a solution explains as order-2 images (the same rule scoreSolution counts by): each unmatched peak whose
  * first-order reading lies within the matching tolerance (+ 4 × the line's reference uncertainty) of 2λ for a strong
- * line λ its colour admits, that the solution matches in order 1 to a peak at least as strong.
+ * line λ its colour admits, whose order-1 light falls in a peak at least as strong (firstOrderStrength).
  */
 export function secondOrderPairs(ctx: Ctx, solution: GrownSolution): Pair[] {
   const { P, px } = ctx;
   const { model, pairs, window, tolerancePx: tolPx } = solution;
   const strong = strongLinesOf(ctx);
-  const brightestOf = firstOrderStrength(ctx, pairs);
+  const brightestOf = firstOrderStrength(ctx, solution);
   const taken = new Set(pairs.map((q) => q.peak));
   const out: Pair[] = [];
   for (let q = lowerBound(px, window[0]); q < px.length && px[q] <= window[1]; q++) {
@@ -285,7 +303,7 @@ export function secondOrderPairs(ctx: Ctx, solution: GrownSolution): Pair[] {
       const l = strong.line[s];
       if (band && (strong.lw[s] < band[0] || strong.lw[s] > band[1])) continue;
       const off = Math.abs(lamQ - 2 * strong.lw[s]);
-      if (off <= tolQ * disp + 4 * ctx.L[l].sigmaNm && off < bestOff && (brightestOf.get(l) ?? -1) >= P[q].strength) {
+      if (off <= tolQ * disp + 4 * ctx.L[l].sigmaNm && off < bestOff && brightestOf(l) >= P[q].strength) {
         best = l;
         bestOff = off;
       }
