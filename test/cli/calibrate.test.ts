@@ -145,6 +145,8 @@ describe('glowprint calibrate: bad input gets one clear message, exit 1, nothing
     expect(r.status).toBe(1);
     expect(r.stderr.trim().split('\n')).toHaveLength(1);
     expect(r.stderr).toMatch(/glowprint: the lamp's lines do not match the peaks.*chance.*check --lamp or give --pairs/);
+    // The bound a scale must beat is stated beside the one found, so a near miss reads as one.
+    expect(r.stderr).toMatch(/probability [\d.e-]+(?: \([^)]*\))?, and a scale is taken only below 5e-3; wrong lamp/);
     expect(readFileSync(keep, 'utf8')).toBe('{"mine": true}\n');
     // … and says where the five brightest peaks are, for --pairs: the photo's own, by the peak table's prominence.
     const listed = /the brightest peaks lie at ([^;]+) px; name two you know, e\.g\. --pairs ([\d.]+)=…,([\d.]+)=…/.exec(r.stderr);

@@ -466,7 +466,7 @@ function searchLines(
       ? ''
       : ambiguous && runner
         ? ambiguityMessage(best.score, runner.score)
-        : noMatchMessage(P.length, L.length, best.score),
+        : noMatchMessage(P.length, L.length, best.score, o.maxFalseMatchProbability),
     matches,
     secondOrder,
     model: best.model,
@@ -733,7 +733,7 @@ function ambiguityMessage(best: MatchScore, runner: MatchScore): string {
   );
 }
 
-function noMatchMessage(peaks: number, lines: number, s: MatchScore | null): string {
+function noMatchMessage(peaks: number, lines: number, s: MatchScore | null, maxProbability?: number): string {
   if (!s) {
     return `no consistent assignment of the lamp's ${lines} lines to the ${peaks} peaks: wrong lamp, or too few lines visible; check --lamp or give --pairs`;
   }
@@ -742,6 +742,7 @@ function noMatchMessage(peaks: number, lines: number, s: MatchScore | null): str
     `where chance alone gives ${s.expectedByChance.toFixed(1)}; among the 1e${s.log10Trials.toFixed(1)} scales tried, chance ` +
     `does as well with probability ${formatProbability(s.falseMatchProbability)}` +
     (s.zeroOrder ? ` (the zero order where this scale puts it counted in)` : '') +
+    (maxProbability !== undefined ? `, and a scale is taken only below ${formatProbability(maxProbability)}` : '') +
     '; ' +
     'wrong lamp, or too few of its lines visible; check --lamp or give --pairs'
   );
