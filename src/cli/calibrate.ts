@@ -42,7 +42,7 @@ export function registerCalibrate(program: Command): void {
     .description('Wavelength calibration from a lamp photo (or spectrum CSV): match its lines, fit the dispersion, save an instrument profile')
     .argument('<input>', 'photo (JPEG, PNG, TIFF, WebP) of the lamp through the grating, or a spectrum CSV in pixels')
     .option('--lamp <names>', 'reference lamp(s): Hg, Ne, He, Ar, Kr, Xe, H, Na, fluorescent, laser:632.816, a line-list file; "Ne,Hg" for several')
-    .option('--pairs <list>', 'known pairs position_px=wavelength_nm, e.g. "812.4=546.074,1040.2=611.6" (alone or with --lamp)')
+    .option('--pairs <list>', 'known pairs position_px=wavelength_nm (position along the band, as in the peak table of glowprint spectrum), e.g. "812.4=546.074,1040.2=611.6" (alone or with --lamp)')
     .addOption(new Option('--model <kind>', 'dispersion model').choices(['poly', 'grating', 'auto']).default('auto'))
     .option('--degree <n>', 'polynomial degree 1–4 (default: chosen by AICc)')
     .option('--order <m>', 'diffraction order of the band for the grating model', '1')

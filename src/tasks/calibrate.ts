@@ -302,7 +302,8 @@ export async function runCalibrate(input: string, opts: CalibrateOptions): Promi
   const lamp = opts.lamp ? calibrationLines(opts.lamp) : null;
 
   const band = opts.band === undefined ? undefined : parseBandOption(opts.band);
-  const { analysis } = await analyseSpectrumInput(input, { dark: opts.dark, band, maxPixels });
+  const { analysis, spectrum } = await analyseSpectrumInput(input, { dark: opts.dark, band, maxPixels });
+  checkPairsInside(pairs, spectrum.positionPx, input, analysis.input.kind === 'photo');
   if (analysis.input.kind === 'csv' && analysis.input.axis === 'wavelength') {
     throw new InputError(`${input}: this spectrum already has a wavelength axis; calibration needs positions in pixels`, input);
   }
@@ -356,6 +357,28 @@ export async function runCalibrate(input: string, opts: CalibrateOptions): Promi
     ...(zeroOrder ? { zeroOrderSeenPx: zeroOrder.positionPx } : {}),
   });
   return { report, profile };
+}
+
+/**
+ * A given pair must lie on the spectrum: a position beyond its ends (a typo, an image coordinate instead of one
+ * along the band, position and wavelength swapped) would otherwise be fitted as given and saved as a scale.
+ */
+function checkPairsInside(pairs: readonly ManualPair[], positionsPx: ArrayLike<number>, input: string, photo: boolean): void {
+  if (pairs.length === 0 || positionsPx.length === 0) return;
+  let lo = Infinity;
+  let hi = -Infinity;
+  for (let i = 0; i < positionsPx.length; i++) {
+    lo = Math.min(lo, positionsPx[i]);
+    hi = Math.max(hi, positionsPx[i]);
+  }
+  const outside = pairs.find((q) => q.positionPx < lo - 0.5 || q.positionPx > hi + 0.5);
+  if (!outside) return;
+  const where = photo ? 'measured along the band, as in the peak table of glowprint spectrum' : "in the CSV's position column";
+  throw new InputError(
+    `--pairs: ${outside.positionPx}=${outside.wavelengthNm}: position ${outside.positionPx} px lies beyond the spectrum of ${input} ` +
+      `(${lo.toFixed(0)}–${hi.toFixed(0)} px); positions are ${where}, written position_px=wavelength_nm`,
+    '--pairs',
+  );
 }
 
 /** The positions of the brightest peaks, for a user who must name two of them with --pairs. */

@@ -185,6 +185,17 @@ describe('glowprint calibrate: bad input gets one clear message, exit 1, nothing
     expect(runCli(['calibrate', csv, '--pairs', '200=435.833,700=546.074', '--degree', '7']).stderr).toMatch(/--degree: expected an integer from 1 to 4/);
   });
 
+  it('a pair beyond the spectrum (a typo, an image coordinate) is an error that names it, and nothing is written', () => {
+    const csv = at('typo.csv');
+    writeFileSync(csv, csvSpectrum([[200, 50], [700, 40]]));
+    const out = at('typo.json');
+    const r = runCli(['calibrate', csv, '--pairs', '200=435.833,7000=546.074', '--out', out]);
+    expect(r.status).toBe(1);
+    expect(r.stderr.trim().split('\n')).toHaveLength(1);
+    expect(r.stderr).toMatch(/--pairs: 7000=546\.074: position 7000 px lies beyond the spectrum of .*typo\.csv \(0–1199 px\)/);
+    expect(existsSync(out)).toBe(false);
+  });
+
   it('one line only is an error that says a scale needs two', () => {
     const csv = at('one.csv');
     writeFileSync(csv, csvSpectrum([[300, 50]]));
