@@ -43,7 +43,7 @@ export interface SpectrumCalibrationSummary {
   /** Wavelengths are in standard air (the NIST convention) unless --vacuum. */
   medium: 'air' | 'vacuum';
   rmsNm: number;
-  /** The range the profile's lines cover (air, nm); peaks beyond it are extrapolated. */
+  /** The range the profile's lines cover (nm, in `medium` like the peaks); peaks beyond it are extrapolated. */
   rangeNm: [number, number];
   linesPerMm?: number;
   extrapolatedPeaks: number;
@@ -242,7 +242,7 @@ function applyCalibration(run: SpectrumRun, calibration: { profile: InstrumentPr
         model: profile.model.kind,
         medium: applied.medium,
         rmsNm: profile.rmsNm,
-        rangeNm: profile.rangeNm,
+        rangeNm: [toMedium(profile.rangeNm[0]), toMedium(profile.rangeNm[1])],
         ...(profile.linesPerMm !== undefined ? { linesPerMm: profile.linesPerMm } : {}),
         extrapolatedPeaks: applied.peaks.filter((p) => p.extrapolated).length,
       },

@@ -3,6 +3,7 @@ import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { Ajv2020 } from 'ajv/dist/2020.js';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { airToVacuumNm } from '../../src/core/units/airVacuum.js';
 import { nistReferenceLines } from '../helpers/nistReference.js';
 import { ROOT, runCli } from '../helpers/runCli.js';
 
@@ -103,6 +104,9 @@ describe('glowprint spectrum <photo> --calibration profile.json', () => {
   it('--vacuum converts by the air index: Ne 633.4 scaled as HeNe 632.816 (air) ↔ 632.9908 nm (vacuum, CIPM 2007)', () => {
     const vac = spectrumJson([path.join(DEMO, 'tube-a.jpg'), '--calibration', PROFILE, '--vacuum']);
     expect(vac.calibration.medium).toBe('vacuum');
+    // The calibrated range is given in the peaks' medium too (vacuum is longer by n − 1 ≈ 2.8e-4).
+    expect(vac.calibration.range_nm[0]).toBeCloseTo(airToVacuumNm(air.calibration.range_nm[0]), 6);
+    expect(vac.calibration.range_nm[1]).toBeGreaterThan(air.calibration.range_nm[1] + 0.1);
     expect(vac.peaks.length).toBe(air.peaks.length);
     const nHeNe = 632.9908 / 632.816; // CIPM 2007 HeNe, vacuum and standard air (../shared/design/CHECK_VALUES.md)
     const k = air.peaks.findIndex((p) => Math.abs(p.wavelength_nm! - 633.4) < 0.5);

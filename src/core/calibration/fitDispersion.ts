@@ -86,10 +86,10 @@ export interface FittedLine {
   residualPx: number;
   used: boolean;
   /**
-   * Why a line was left out: 'clipped' (an outlier), 'blended' (a peak flagged blended, with excludeBlended), or
+   * Why a line was left out: 'outlier' (sigma-clipped), 'blended' (a peak flagged blended, with excludeBlended), or
    * 'imprecise' (its reference wavelength is uncertain beyond maxReferenceUncertaintyNm: a lamp blend, a broad peak).
    */
-  excluded?: 'clipped' | 'blended' | 'imprecise';
+  excluded?: 'outlier' | 'blended' | 'imprecise';
   source: 'manual' | 'matched';
   label?: string;
   saturated: boolean;
@@ -141,7 +141,7 @@ interface Working {
   point: CalibrationPoint;
   sigmaPx: number;
   used: boolean;
-  excluded?: 'clipped' | 'blended' | 'imprecise';
+  excluded?: 'outlier' | 'blended' | 'imprecise';
 }
 
 function checkOptions(o: FitDispersionOptions): void {
@@ -262,7 +262,7 @@ export function fitDispersion(points: readonly CalibrationPoint[], options: Part
     const z = Math.abs(w.point.wavelengthNm - wavelengthAtNm(loo.model, w.point.positionPx)) / Math.sqrt(sigma2);
     if (z <= o.clipSigma) break;
     w.used = false;
-    w.excluded = 'clipped';
+    w.excluded = 'outlier';
   }
 
   let used = work.filter((w) => w.used);
@@ -365,7 +365,7 @@ export function fitDispersion(points: readonly CalibrationPoint[], options: Part
         chosenChi2 = g.chi2;
         for (const w of gClipped) {
           w.used = false;
-          w.excluded = 'clipped';
+          w.excluded = 'outlier';
         }
         if (gClipped.length) {
           used = gSet;
@@ -411,7 +411,7 @@ export function fitDispersion(points: readonly CalibrationPoint[], options: Part
   const l1 = wavelengthAtNm(chosen, rangePx[1]);
   const birgeRatio = chosenDof > 0 ? chosenChi2 / chosenDof : NaN;
 
-  const clipped = lines.filter((l) => l.excluded === 'clipped');
+  const clipped = lines.filter((l) => l.excluded === 'outlier');
   if (clipped.length) {
     warnings.push(
       `${clipped.length} line(s) rejected as outliers (> ${o.clipSigma} σ): ` +

@@ -110,7 +110,7 @@ describe('fitDispersion(points, options)', () => {
     const pts = lines(NE, 0.05, 3);
     pts[7] = { ...pts[7], wavelengthNm: pts[7].wavelengthNm + 2, label: 'wrong one' };
     const fit = fitDispersion(pts, { model: 'polynomial' });
-    const clipped = fit.lines.filter((l) => l.excluded === 'clipped');
+    const clipped = fit.lines.filter((l) => l.excluded === 'outlier');
     expect(clipped.map((l) => l.label)).toEqual(['wrong one']);
     expect(fit.warnings.join(' ')).toMatch(/wrong one/);
     expect(fit.rmsPx).toBeLessThanOrEqual(0.15);

@@ -97,7 +97,9 @@ export function calibrationSection(json: unknown, options: SectionOptions): Resu
 
 /** Why a line was left out of the fit, in words. */
 const EXCLUSION_WORDS: Record<string, string> = {
-  clipped: 'outlier (clipped by the robust fit)',
+  outlier: 'outlier (rejected by the robust fit)',
+  // Results from earlier builds, which named this reason 'clipped' (it read as saturation).
+  clipped: 'outlier (rejected by the robust fit)',
   blended: 'blended with a neighbour',
   imprecise: 'wavelength too uncertain as the camera records it (blend or broad band)',
 };

@@ -21,7 +21,7 @@ function fluorescent(): Record<string, any> {
     [280.3, 546.074, 0.02, true, 'Hg I'],
     [330.0, 576.96, 0.61, false, 'Hg I'],
     [333.4, 579.066, -0.05, true, 'Hg I'],
-  ].map(([position_px, wavelength_nm, residual_nm, used, label]) => ({ position_px, position_uncertainty_px: 0.05, wavelength_nm, residual_nm, used, label, ...(used ? {} : { excluded: 'clipped' }) }));
+  ].map(([position_px, wavelength_nm, residual_nm, used, label]) => ({ position_px, position_uncertainty_px: 0.05, wavelength_nm, residual_nm, used, label, ...(used ? {} : { excluded: 'outlier' }) }));
   return {
     input: { file: 'photos/cfl.jpg' },
     lamp: 'fluorescent',
@@ -63,7 +63,7 @@ describe('calibrationSection(json, {document})', () => {
     expect(near.querySelectorAll('path.excluded').length).toBe(1);
     expect(near.querySelectorAll('path.offscale').length).toBe(0);
     const note = section.tables![0].rows[3][5];
-    expect(plainText(String(note))).toBe('outlier (clipped by the robust fit)');
+    expect(plainText(String(note))).toBe('outlier (rejected by the robust fit)');
   });
 
   it('the schema asks for lines_per_mm when the model is the grating one', () => {
