@@ -361,7 +361,7 @@ export async function runCalibrate(input: string, opts: CalibrateOptions): Promi
 
 /**
  * A given pair must lie on the spectrum: a position beyond its ends (a typo, an image coordinate instead of one
- * along the band, position and wavelength swapped) would otherwise be fitted as given and saved as a scale.
+ * along the band) would otherwise be fitted as given and saved as a scale.
  */
 function checkPairsInside(pairs: readonly ManualPair[], positionsPx: ArrayLike<number>, input: string, photo: boolean): void {
   if (pairs.length === 0 || positionsPx.length === 0) return;

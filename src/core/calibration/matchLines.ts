@@ -143,8 +143,8 @@ export interface MatchResult {
   matches: LineMatch[];
   /**
    * Peaks the scale explains as the order-2 image of a strong line (at a first-order reading of 2λ, no brighter than
-   * the order-1 peak the line falls in, matched to it or a blend holding it): counted as evidence in the score, never used to fit the scale. residualPx is
-   * measured − predicted position of the image (the order-1 scale reads 2λ there).
+   * the order-1 peak the line falls in, matched to it or a blend holding it): counted as evidence in the score, never
+   * used to fit the scale. residualPx is measured − predicted position of the image (the order-1 scale reads 2λ there).
    */
   secondOrder: LineMatch[];
   /** The scale the matching converged on (diagnostics; the calibration itself is fitted by fitDispersion). */
