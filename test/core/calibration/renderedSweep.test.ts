@@ -266,8 +266,8 @@ describe('calibrateFromPeaks on rendered photos (render → JPEG → decode → 
   // order-1 light lies in an unresolved blend matched to no line (scoreSolution's firstOrderStrength), He at 1.77 nm/px
   // (#12: 501.6 nm blended with 492.2 nm; 10^-1.9 before) added: 18 of 20, none wrong, the first sweep unchanged, and
   // all 346 searches of both sweeps' photos against every other lamp, with and without the zero order, declined.
-  // Still declined: Ne at 1.13–1.23 nm/px: multi-line blends and the order-2 images of blue lines the list ranks weak; with the
-  // truth's assignment forced, they score only 10^-4.6 and 10^-3.4 against 10^5.9 trials. Tried and not kept (no photo
+  // Still declined: Ne at 1.13–1.23 nm/px: multi-line blends and the order-2 images of blue lines the list ranks
+  // weak; with the truth's assignment forced, they score only 10^-4.6 and 10^-3.4 against 10^5.9 trials. Tried and not kept (no photo
   // gained without one lost, or a synthetic case lost or accepted wrong): judging each solution's blends at its own
   // resolution (FWHM × dispersion: at 4.6 nm every red Ne line is a blend, so every peak's chance grows as much as the
   // matches), order-2 hypotheses for lines the photo's three to six strongest peaks match (with their windows bounded
