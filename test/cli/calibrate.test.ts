@@ -85,6 +85,20 @@ describe('glowprint calibrate <photo> --lamp fluorescent (the demo rig: 1000 lin
     expect((out.model as Record<string, unknown>).focal_length_source).toBe('exif');
   });
 
+  it('keeps a correct line at the end of the range that a low-degree polynomial of the others mispredicts (--lamp Hg)', () => {
+    // Mercury alone on the demo photo: Hg I 404.656 nm (NIST ASD) is the only usable line below 567 nm. A polynomial
+    // fitted to 567–691 nm mispredicts it and once rejected it, shrinking the range to 567–691 nm; the grating model
+    // extrapolates to it within a few hundredths of a nm (it is a true line of the renderer's scene, truth.json).
+    const r = runCli(['calibrate', CFL, '--lamp', 'Hg', '--json']);
+    expect(r.status).toBe(0);
+    const hg = JSON.parse(r.stdout) as { range_nm: [number, number]; lines: Array<{ wavelength_nm: number; used: boolean; residual_nm: number }>; lines_per_mm: number; lines_per_mm_uncertainty: number };
+    const violet = hg.lines.find((l) => Math.abs(l.wavelength_nm - 404.656) < 1e-3)!;
+    expect(violet.used).toBe(true);
+    expect(Math.abs(violet.residual_nm)).toBeLessThanOrEqual(0.05);
+    expect(hg.range_nm[0]).toBeLessThanOrEqual(405);
+    expect(Math.abs(hg.lines_per_mm - truth.rig.lines_per_mm)).toBeLessThanOrEqual(2 * hg.lines_per_mm_uncertainty);
+  });
+
   it('counts the zero order, seen where the renderer drew it, which the scale puts there too', async () => {
     // Truth: the renderer's zero order of the calibration photo (data/demo/truth.json), in the found band's frame.
     const photo = truth.photos.find((p) => p.file === 'cfl-calibration.jpg') as unknown as { zero_order: { image_px: { x: number; y: number } } };

@@ -203,6 +203,8 @@ export function fitDispersion(points: readonly CalibrationPoint[], options: Part
       }
     }
   }
+  // The lines either model may use, before clipping: each model clips them in its own right.
+  const eligible = work.filter((w) => w.used);
 
   // Weights 1/σλ² with σλ = σx·|dλ/dx| from a first straight line through the used lines.
   const rough = fitPolynomial(toPoints(work.filter((w) => w.used)), 1);
@@ -295,24 +297,26 @@ export function fitDispersion(points: readonly CalibrationPoint[], options: Part
   let poly = polynomialOn(used, degree);
   let candidates = polyCandidates(used);
 
-  // The physical model on the same lines. It is clipped in its own right (a polynomial of higher degree can absorb a
-  // slightly shifted line that the physics cannot), at most MAX_MODEL_CLIPPED of the lines, and then compared with
-  // the polynomials refitted on the lines it kept.
+  // The physical model on the lines before the polynomial's clipping. It is clipped in its own right, at most
+  // MAX_MODEL_CLIPPED of the lines, and then compared with the polynomials refitted on the lines it kept. Clipping
+  // depends on the model: a polynomial of higher degree can absorb a slightly shifted line that the physics cannot,
+  // and a low-degree polynomial fitted to the others mispredicts a correct line at the end of the range, which the
+  // physical model extrapolates to well (a fluorescent tube's 404.7 nm seen from lines at 567–691 nm).
   let chosen: DispersionModel = poly.model;
   let chosenDof = poly.dof;
   let chosenChi2 = poly.chi2;
   if (o.model !== 'polynomial') {
     const gratingOn = (set: Working[]) => fitGrating(toPoints(set, weightOf), o.grating);
-    let gSet = used.slice();
+    let gSet = eligible.slice();
     let g = gratingOn(gSet);
     if (!g) {
-      const why = `the grating model cannot be fitted to ${used.length} lines` +
+      const why = `the grating model cannot be fitted to ${gSet.length} lines` +
         (o.grating.focalLengthPx ? '' : ' with the focal length unknown (no EXIF focal length; give --focal-px)');
       if (o.model === 'grating') throw new InputError(why, 'model');
       warnings.push(`${why}; the polynomial is used`);
     } else {
       const gClipped: Working[] = [];
-      const maxClipped = Math.max(1, Math.floor(MAX_MODEL_CLIPPED * used.length));
+      const maxClipped = Math.max(1, Math.floor(MAX_MODEL_CLIPPED * eligible.length));
       while (gClipped.length < maxClipped && gSet.length > 4) {
         const model = g.model;
         let worst = -1;
@@ -338,8 +342,9 @@ export function fitDispersion(points: readonly CalibrationPoint[], options: Part
         g = loo;
       }
       const gCriterion = informationCriterion(o.criterion, g.chi2, gSet.length, g.effectiveParameters);
-      const onSet = gClipped.length ? polyCandidates(gSet) : candidates;
-      const degreeOnSet = gClipped.length ? chooseDegree(gSet) : degree;
+      const sameSet = gSet.length === used.length && gSet.every((w) => w.used);
+      const onSet = sameSet ? candidates : polyCandidates(gSet);
+      const degreeOnSet = sameSet ? degree : chooseDegree(gSet);
       // Polynomial against physics by leave-one-out prediction (PRESS: Allen 1974; cross-validation: Stone 1974) on
       // the same lines: unlike an information criterion it sees how badly a flexible polynomial predicts the end
       // lines from the others — extrapolation, what the physical model does well. In 'auto' the grating model wins
@@ -363,11 +368,13 @@ export function fitDispersion(points: readonly CalibrationPoint[], options: Part
         chosen = g.model;
         chosenDof = g.dof;
         chosenChi2 = g.chi2;
-        for (const w of gClipped) {
-          w.used = false;
-          w.excluded = 'outlier';
+        // The grating model's own clipping decides: lines only the polynomial rejected are used again.
+        const kept = new Set(gSet);
+        for (const w of eligible) {
+          w.used = kept.has(w);
+          w.excluded = kept.has(w) ? undefined : 'outlier';
         }
-        if (gClipped.length) {
+        if (!sameSet) {
           used = gSet;
           degree = degreeOnSet;
           poly = polynomialOn(used, degree);
