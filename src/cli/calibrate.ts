@@ -14,7 +14,9 @@ wavelength), laser:<name>, or a line-list file (NIST ASD export or CSV of wavele
 Lines are matched to the peaks automatically; --pairs gives known pairs as position_px=wavelength_nm, alone or with
 a lamp (e.g. --pairs "812.4=546.074,1040.2=611.6"). A lamp that does not match is an error, never a guessed scale;
 the message lists the brightest peaks' positions. Dense lamps (Ne, Ar) at about 1 nm/px and more blend their lines
-and may need two such pairs: with them and --lamp, the other lines are matched as usual.
+and may need two such pairs: with them and --lamp, the other lines are matched as usual. A pair that the lamp's own
+scale contradicts is an error naming the pair; with two or more pairs and a lamp that matches neither with them nor
+alone, the scale comes from the pairs alone, with a warning.
 Keep the zero order (the undispersed spot of the lamp) in the frame when the lens allows: it is the 0 nm point of
 the first order, and a scale whose grating model puts it there gains that agreement as evidence (the summary says
 when it counted).

@@ -173,6 +173,25 @@ describe('glowprint calibrate: bad input gets one clear message, exit 1, nothing
     expect(shown).toContain(Number.parseFloat(listed![3]));
   });
 
+  it('a pair that the lamp\'s own scale contradicts is an error naming it, and nothing is written', () => {
+    // Where the Hg lines of the rendered CFL photo lie, from the lamp alone; then the 567.581 nm peak is given the
+    // wavelength of its neighbour 576.960 nm (a misread line, common practice, no source: the mistake the check is for).
+    const alone = JSON.parse(runCli(['calibrate', CFL, '--lamp', 'Hg', '--json']).stdout) as { lines: Array<{ position_px: number; wavelength_nm: number }> };
+    const at567 = alone.lines.find((l) => Math.abs(l.wavelength_nm - 567.581) < 0.01)!.position_px.toFixed(2);
+    const at671 = alone.lines.find((l) => Math.abs(l.wavelength_nm - 671.634) < 0.01)!.position_px.toFixed(2);
+    const out = at('wrong-pair.json');
+    const r = runCli(['calibrate', CFL, '--lamp', 'Hg', '--pairs', `${at567}=576.96,${at671}=671.634`, '--out', out]);
+    expect(r.status).toBe(1);
+    expect(r.stderr.trim().split('\n')).toHaveLength(1);
+    expect(r.stderr).toContain(`--pairs ${Number(at567)}=576.96 contradicts the lamp's lines`);
+    expect(r.stderr).toMatch(/their scale reads 567\.5\d nm at [\d.]+ px \(Hg I 567\.581\), not 576\.96/);
+    expect(existsSync(out)).toBe(false);
+    // The same pairs with the right wavelength calibrate with the lamp's lines as usual.
+    const ok = runCli(['calibrate', CFL, '--lamp', 'Hg', '--pairs', `${at567}=567.581,${at671}=671.634`, '--json']);
+    expect(ok.status).toBe(0);
+    expect((JSON.parse(ok.stdout) as { lines: unknown[] }).lines.length).toBeGreaterThan(4);
+  });
+
   it('a single laser line cannot calibrate alone', () => {
     const r = runCli(['calibrate', CFL, '--lamp', 'laser:632.816']);
     expect(r.status).toBe(1);

@@ -158,6 +158,7 @@ export function calibrateFromPeaks(
     match = matchLines(peaks, usable, { grating: priors, ...CALIBRATE_MATCH_DEFAULTS, ...o.match, pairs: o.pairs, snapPx: o.snapPx });
     warnings.push(...match.warnings);
     if (!match.accepted && o.pairs.length < 2) throw new InputError(match.message, 'lamp');
+    if (!match.accepted) match = checkPairsAgainstLamp(peaks, usable, match, o, priors, warnings);
   }
   if (match && match.accepted) {
     points = match.matches.map((m) => {
@@ -178,7 +179,12 @@ export function calibrateFromPeaks(
   } else {
     if (o.pairs.length === 0) throw new InputError('nothing to calibrate with: give --lamp, --pairs, or both', 'lamp');
     if (match) {
-      warnings.push(`the lamp's lines add nothing beyond the given pairs (${match.message.replace(/; check --lamp or give --pairs$/, '')}): calibrated from the pairs alone`);
+      const sc = match.score;
+      warnings.push(
+        `the lamp's lines match the peaks neither tied to the given pairs nor on their own` +
+          (sc ? ` (at best ${sc.matched} of ${sc.peaksInRange} peaks, where chance alone gives ${sc.expectedByChance.toFixed(1)})` : '') +
+          `: wrong lamp, or too few of its lines visible; calibrated from the pairs alone, which nothing checks`,
+      );
       match = null;
     }
     points = o.pairs.map((pair) => {
@@ -257,6 +263,54 @@ export function calibrateFromPeaks(
   const fit = fitDispersion(points, o.fit);
   warnings.push(...fit.warnings);
   return { fit, match, points, warnings };
+}
+
+/**
+ * The lamp's lines did not match together with two or more pairs. Without the pairs they may match on their own: then
+ * the scale they give is an independent check of the pairs. A pair it contradicts (a line misread, a digit slipped,
+ * another lamp's line) is an error naming the pair and what the lamp's scale reads there; pairs it agrees with were only
+ * too imprecise to hold the matching together, and the lamp's match is taken, with a warning. When the lamp fails on its
+ * own too, the declined match is returned, for the caller to fall back on the pairs alone.
+ */
+function checkPairsAgainstLamp(
+  peaks: readonly Peak[],
+  usable: readonly SpectralLine[],
+  declined: MatchResult,
+  o: CalibrateOptions,
+  priors: MatchLinesOptions['grating'],
+  warnings: string[],
+): MatchResult {
+  const alone = matchLines(peaks, usable, { grating: priors, ...CALIBRATE_MATCH_DEFAULTS, ...o.match, pairs: [], snapPx: o.snapPx });
+  if (!alone.accepted || !alone.model) return declined;
+  const model = alone.model;
+  const readings = o.pairs.map((pair) => {
+    const readNm = wavelengthAtNm(model, pair.positionPx);
+    // The pair may sit up to snapPx off its peak, and the lamp's scale is good to a few tenths of a px inside its lines.
+    const toleranceNm = (o.snapPx + 1) * Math.abs(dispersionAtNmPerPx(model, pair.positionPx));
+    const line = alone.matches.find((m) => m.line && Math.abs(m.positionPx - pair.positionPx) <= o.snapPx)?.line;
+    return { pair, readNm, toleranceNm, line };
+  });
+  const wrong = readings.filter((r) => !(Math.abs(r.readNm - r.pair.wavelengthNm) <= r.toleranceNm));
+  if (wrong.length > 0) {
+    const what = wrong.map(
+      (r) => `${r.readNm.toFixed(2)} nm at ${r.pair.positionPx} px` + (r.line ? ` (${lineLabel(r.line)})` : '') + `, not ${r.pair.wavelengthNm}`,
+    );
+    const one = wrong.length === 1;
+    throw new InputError(
+      `--pairs ${wrong.map((r) => `${r.pair.positionPx}=${r.pair.wavelengthNm}`).join(', ')} ${one ? 'contradicts' : 'contradict'} the lamp's lines: ` +
+        `on their own they match ${alone.matches.length} peaks (false-match bound ${(alone.score?.falseMatchProbability ?? NaN).toExponential(1)}) ` +
+        `and their scale reads ${what.join('; ')}; tied to the pair${one ? '' : 's'} they match no scale. ` +
+        `Correct or drop the pair${one ? '' : 's'}, or check --lamp`,
+      'pairs',
+    );
+  }
+  warnings.push(
+    `the lamp's lines match the peaks on their own but not tied to the given pairs, which agree with their scale only to ` +
+      `${Math.max(...readings.map((r) => Math.abs(r.readNm - r.pair.wavelengthNm))).toFixed(2)} nm: calibrated from the lamp's lines, ` +
+      'the pairs used as a check only',
+  );
+  warnings.push(...alone.warnings.filter((w) => !warnings.includes(w)));
+  return alone;
 }
 
 export type { GratingFitOptions };

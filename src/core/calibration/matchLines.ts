@@ -456,7 +456,7 @@ function searchLines(
   if (accepted && runner && runner.score.log10Chance - best.score.log10Chance < 2) {
     warnings.push(
       `the line identification is ambiguous: another assignment matches ${runner.score.matched} peaks ` +
-        `(chance 1e${runner.score.log10Chance.toFixed(1)}) against ${best.score.matched} (1e${best.score.log10Chance.toFixed(1)}); ` +
+        `(chance ${formatProbability(10 ** runner.score.log10Chance)}) against ${best.score.matched} (${formatProbability(10 ** best.score.log10Chance)}); ` +
         'check the result or give --pairs',
     );
   }
@@ -720,6 +720,12 @@ function densestStretch(pairs: readonly Pair[]): Pair[] {
   return [...best, ...sorted.filter((q) => q.manual && !best.includes(q))];
 }
 
+/** 10^log10 as a count for a message: "2", "350", "4.2e5". */
+function formatCount(log10: number): string {
+  const v = 10 ** log10;
+  return v < 1e4 ? String(Math.max(1, Math.round(v))) : v.toExponential(1);
+}
+
 function formatProbability(p: number): string {
   return p >= 0.01 ? p.toFixed(2) : p.toExponential(0);
 }
@@ -729,7 +735,7 @@ function ambiguityMessage(best: MatchScore, runner: MatchScore): string {
   return (
     `the peaks fit two assignments of the lamp's lines almost equally well: the best matches ${best.matched} of ` +
     `${best.peaksInRange} peaks, another that puts them at other wavelengths matches ${runner.matched} and is only ` +
-    `1e${gap.toFixed(1)} times less likely; give --pairs (a known line or two) to tell them apart`
+    `${formatCount(gap)} times less likely; give --pairs (a known line or two) to tell them apart`
   );
 }
 
@@ -739,7 +745,7 @@ function noMatchMessage(peaks: number, lines: number, s: MatchScore | null, maxP
   }
   return (
     `the lamp's lines do not match the peaks: the best assignment matches ${s.matched} of ${s.peaksInRange} peaks, ` +
-    `where chance alone gives ${s.expectedByChance.toFixed(1)}; among the 1e${s.log10Trials.toFixed(1)} scales tried, chance ` +
+    `where chance alone gives ${s.expectedByChance.toFixed(1)}; among the ${formatCount(s.log10Trials)} scales tried, chance ` +
     `does as well with probability ${formatProbability(s.falseMatchProbability)}` +
     (s.zeroOrder ? ` (the zero order where this scale puts it counted in)` : '') +
     (maxProbability !== undefined ? `, and a scale is taken only below ${formatProbability(maxProbability)}` : '') +

@@ -57,7 +57,33 @@ describe('calibrateFromPeaks(peaks, lines, options)', () => {
     const r = calibrateFromPeaks(c.peaks, hg, { pairs, fit: { model: 'polynomial' } });
     expect(r.match).toBeNull();
     expect(r.fit.linesUsed).toBe(2);
-    expect(r.warnings.join(' ')).toMatch(/add nothing beyond the given pairs/);
+    expect(r.warnings.join(' ')).toMatch(/match the peaks neither tied to the given pairs nor on their own .*calibrated from the pairs alone/);
+  });
+
+  it('a pair the lamp\'s own scale contradicts is an error naming the pair and what the lamp reads there', () => {
+    // The right lamp, two pairs: one right, one given the wavelength of another Ne line 10+ nm away.
+    const i = trueIdx[1];
+    const j = trueIdx[trueIdx.length - 2];
+    const wrongNm = ne.map((l) => l.wavelengthNm).find((w) => Math.abs(w - c.truthNm[j]!) > 10 && Math.abs(w - c.truthNm[j]!) < 40)!;
+    const pairs = [
+      { positionPx: c.peaks[i].positionPx, wavelengthNm: c.truthNm[i]! },
+      { positionPx: c.peaks[j].positionPx, wavelengthNm: wrongNm },
+    ];
+    let message = '';
+    try {
+      calibrateFromPeaks(c.peaks, ne, { pairs, fit: { model: 'polynomial' } });
+    } catch (e) {
+      message = (e as Error).message;
+    }
+    expect(message).toContain(`--pairs ${c.peaks[j].positionPx}=${wrongNm} contradicts the lamp's lines`);
+    // What the lamp's scale reads there is the pair's true wavelength (to the synthetic noise, well under 0.1 nm).
+    const read = Number(/scale reads ([\d.]+) nm/.exec(message)?.[1]);
+    expect(Math.abs(read - c.truthNm[j]!)).toBeLessThanOrEqual(0.1);
+    expect(message).not.toContain(`${c.peaks[i].positionPx}=`);
+    // Both pairs right: they agree with the lamp, and the lamp's lines are matched as usual.
+    const good = calibrateFromPeaks(c.peaks, ne, { pairs: [pairs[0], { ...pairs[1], wavelengthNm: c.truthNm[j]! }], fit: { model: 'polynomial' } });
+    expect(good.match?.accepted).toBe(true);
+    expect(good.fit.linesUsed).toBeGreaterThan(5);
   });
 
   it('pairs alone snap to the nearest peak, and a pair far from any peak is used as given with a warning', () => {
