@@ -77,16 +77,22 @@ export function unpackResults(json: unknown): unknown[] {
   return [json];
 }
 
-/** A batch entry that failed: the file and the error, so the report shows what is missing and why. */
+/**
+ * A batch entry that failed: the file (named once, in the heading, with its full path under it when that says more)
+ * and why, so the report shows what is missing and why. An error that starts with the file's name (as earlier
+ * versions wrote it, "x.jpg: no such file", "x.csv, line 3: …") is shown without it.
+ */
 function failedSection(json: Record<string, unknown>, options: SectionOptions): ResultSection {
-  const file = typeof json.file === 'string' ? json.file : typeof json.input === 'string' ? json.input : options.source;
+  const input = typeof json.file === 'string' ? json.file : typeof json.input === 'string' ? json.input : undefined;
+  const file = input || options.source;
   const item = file ? baseName(file) : 'input';
   const id = options.id ?? 'failed';
-  const error = String(json.error);
+  const raw = String(json.error);
+  const error = input && (raw.startsWith(`${input}: `) || raw.startsWith(`${input}, `)) ? raw.slice(input.length + 2) : raw;
   const measurement = typeof json.command === 'string' && KIND_OF_COMMAND[json.command] ? KIND_LABEL[KIND_OF_COMMAND[json.command]] : 'Measurement';
   return {
     kind: 'failed',
-    section: { id, heading: `${item} — not measured`, verdict: 'This input could not be measured', warnings: [error] },
+    section: { id, heading: `${item} — not measured`, subtitle: input && input !== item ? `Input: ${input}` : undefined, verdict: 'This input could not be measured', warnings: [error] },
     summary: { id, item, measurement, result: 'failed', keyFigure: error.length > 90 ? error.slice(0, 87) + '…' : error, warnings: 1 },
   };
 }

@@ -49,11 +49,20 @@ describe('resultKind(json)', () => {
 });
 
 describe('sectionFromResult(json, {document}) and unpackResults(json)', () => {
-  it('turns a failed batch entry into a section that says so', () => {
-    const r = sectionFromResult({ file: 'photos/tube-f.jpg', error: 'photos/tube-f.jpg: no spectrum found' }, { document });
+  it('turns a failed batch entry into a section that says so, naming the file once', () => {
+    const r = sectionFromResult({ command: 'spectrum', file: 'photos/tube-f.jpg', error: 'no spectrum found' }, { document });
     expect(r.kind).toBe('failed');
-    expect(r.summary).toMatchObject({ item: 'tube-f.jpg', result: 'failed', warnings: 1 });
-    expect(r.section.warnings).toEqual(['photos/tube-f.jpg: no spectrum found']);
+    expect(r.summary).toMatchObject({ item: 'tube-f.jpg', measurement: 'Spectrum and peaks', result: 'failed', keyFigure: 'no spectrum found', warnings: 1 });
+    expect(r.section).toMatchObject({ heading: 'tube-f.jpg — not measured', subtitle: 'Input: photos/tube-f.jpg', warnings: ['no spectrum found'] });
+    // An entry whose error starts with the file's name (as earlier versions wrote it) does not show the name twice.
+    const old = sectionFromResult({ file: 'photos/tube-f.jpg', error: 'photos/tube-f.jpg: no spectrum found' }, { document });
+    expect(old.section.warnings).toEqual(['no spectrum found']);
+    expect(old.summary.keyFigure).toBe('no spectrum found');
+    expect(sectionFromResult({ file: 'runs/b.csv', error: 'runs/b.csv, line 3: expected a number' }, { document }).section.warnings).toEqual(['line 3: expected a number']);
+    // An error about another file keeps that name; a bare file name is not repeated under the heading.
+    const dark = sectionFromResult({ file: 'tube-g.jpg', error: 'dark.jpg: no such file' }, { document });
+    expect(dark.section.warnings).toEqual(['dark.jpg: no such file']);
+    expect(dark.section.subtitle).toBeUndefined();
   });
 
   it('unpacks a batch {"results": [...]} and leaves a single result alone', () => {
