@@ -53,10 +53,13 @@ describe('glowprint identify <photos...> (batch)', () => {
     expect(r.status).toBe(1);
     const json = JSON.parse(r.stdout) as BatchJson;
     expect(json.results.map((x) => path.basename(x.file))).toEqual(inputs.map((f) => path.basename(f)));
-    expect(json.results[1].error).toMatch(/broken\.jpg: .*not image data/);
-    expect(json.results[4].error).toMatch(/missing\.jpg: no such file/);
+    // Each entry names its file; its error says why, without naming the file again.
+    expect(json.results[1].error).toMatch(/^contains text, not image data/);
+    expect(json.results[4].error).toBe('no such file');
     expect(json.results[1].command).toBe('identify');
-    expect(json.warnings.filter((w) => /broken\.jpg|missing\.jpg/.test(w))).toHaveLength(2);
+    expect(json.warnings.filter((w) => /broken\.jpg|missing\.jpg/.test(w))).toEqual([`${at('broken.jpg')}: ${json.results[1].error}`, `${at('missing.jpg')}: no such file`]);
+    // On stderr, one line each as the file alone would get, not labelled as a warning.
+    expect(r.stderr.split('\n').filter((l) => /broken\.jpg|missing\.jpg/.test(l))).toEqual([`glowprint: ${at('broken.jpg')}: ${json.results[1].error}`, `glowprint: ${at('missing.jpg')}: no such file`]);
     expect(r.stderr).toMatch(/4 of 6 files identified, 2 failed/);
     // Every tube identified as truth.json says (N2 bands and trace species aside, these four are clean).
     for (const [k, tube] of [[0, TUBES[0]], [2, TUBES[1]], [3, TUBES[2]], [5, TUBES[3]]] as const) {
@@ -76,15 +79,23 @@ describe('glowprint identify <photos...> (batch)', () => {
     expect(rows[0].calibration_from).toBe('profile');
     expect(Number(rows[0].calibration_rms_nm)).toBeGreaterThan(0);
     expect(Number(rows[0].calibration_rms_nm)).toBeLessThan(0.2);
-    expect(rows[1].error).toMatch(/broken\.jpg/);
+    expect(rows[1].error).toMatch(/^contains text, not image data/);
     expect(rows[1].species_present).toBe('');
-    expect(rows[4].error).toMatch(/missing\.jpg: no such file/);
+    expect(rows[4].file).toBe(at('missing.jpg'));
+    expect(rows[4].error).toBe('no such file');
   });
 
   it('writes the report with a section per input, the failures named, and the cautions', () => {
     const html = readFileSync(at('report-1/index.html'), 'utf8');
     for (const f of inputs) expect(html).toContain(path.basename(f));
     expect(html).toMatch(/broken\.jpg — not measured/);
+    // The failed section names the file in its heading and says why without naming it again.
+    const failed = html.match(/<section id="missing-jpg">[\s\S]*?<\/section>/)![0];
+    expect(failed).toContain('missing.jpg — not measured');
+    expect(failed).toContain(`Input: ${at('missing.jpg')}`);
+    expect(failed).toContain('<li>no such file</li>');
+    expect(failed.match(/missing\.jpg/g)).toHaveLength(2);
+    expect(html).toMatch(/<tr><td>missing\.jpg<\/td><td>Gas identification<\/td><td>failed<\/td><td>no such file<\/td>/);
     expect(html).toMatch(/kilovolt|high voltage/i);
     expect(existsSync(at('report-1/summary.csv'))).toBe(false); // --summary put it elsewhere
   });

@@ -49,15 +49,34 @@ describe('glowprint spectrum <photos...> (batch)', () => {
     expect(json.command).toBe('spectrum');
     expect(json.results).toHaveLength(3);
     expect(path.basename(json.results[0].input!.file)).toBe('tube-a.jpg');
-    expect(json.results[1].error).toMatch(/broken\.jpg: .*not image data/);
+    // The entry names the file; its error says why, without naming it again.
+    expect(json.results[1].file).toBe(at('broken.jpg'));
+    expect(json.results[1].error).toMatch(/^contains text, not image data/);
     expect(path.basename(json.results[2].input!.file)).toBe('tube-c.jpg');
-    expect(json.warnings.some((w) => w.includes('broken.jpg'))).toBe(true);
+    expect(json.warnings.filter((w) => w.includes('broken.jpg'))).toEqual([`${at('broken.jpg')}: ${json.results[1].error}`]);
+    // On stderr too (with --json), once, worded as for the file alone, and not as a warning.
+    expect(r.stderr.split('\n').filter((l) => l.includes('broken.jpg'))).toEqual([`glowprint: ${at('broken.jpg')}: ${json.results[1].error}`]);
+  });
+
+  it('text mode: a missing file is named once on stdout and once on stderr, as an error (the line it gets alone), exit 1', () => {
+    const missing = at('nope.jpg');
+    const alone = runCli(['spectrum', missing]);
+    expect(alone.status).toBe(1);
+    expect(alone.stderr).toBe(`glowprint: ${missing}: no such file\n`);
+    const r = runCli(['spectrum', demo('tube-a.jpg'), missing, '--workers', '1']);
+    expect(r.status).toBe(1);
+    const mentions = (text: string): string[] => text.split('\n').filter((l) => l.includes('nope.jpg'));
+    expect(mentions(r.stdout)).toEqual([`${missing}: not measured: no such file`]);
+    expect(mentions(r.stderr)).toEqual([alone.stderr.trimEnd()]);
+    expect(r.stderr).not.toMatch(/warning: .*nope\.jpg/);
+    expect(r.stderr).toMatch(/glowprint: 1 of 2 files measured, 1 failed\n/);
   });
 
   it('summary CSV: the brightest peak of each tube sits on a strong NIST ASD line of its gas (within 0.5 nm)', () => {
     const rows = parse(readFileSync(at('summary-1.csv'), 'utf8'), { columns: true }) as Array<Record<string, string>>;
     expect(rows.map((x) => x.status)).toEqual(['ok', 'failed', 'ok']);
-    expect(rows[1].error).toMatch(/broken\.jpg/);
+    expect(rows[1].file).toBe(at('broken.jpg'));
+    expect(rows[1].error).toMatch(/^contains text, not image data/);
     const nist = nistReferenceLines();
     for (const [row, spectrum] of [[rows[0], 'Ne I'], [rows[2], 'He I']] as const) {
       const wl = Number(row.brightest_peak_wavelength_nm);

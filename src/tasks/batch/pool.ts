@@ -81,7 +81,7 @@ export async function runPool(files: readonly string[], job: BatchJob, options: 
         settle({ index, file: files[index], status: 'ok', result: await runJob(job, files[index]) });
       } catch (err) {
         if (options.rethrow) throw err;
-        settle(failed(index, describeError(err)));
+        settle(failed(index, describeError(err, files[index])));
       }
     }
     return items;
@@ -109,13 +109,13 @@ export async function runPool(files: readonly string[], job: BatchJob, options: 
       });
       // An exception that escaped the job (or a script that did not load): the file in hand fails, the worker is gone.
       worker.on('error', (err) => {
-        if (inHand !== null) settle(failed(inHand, describeError(err)));
+        if (inHand !== null) settle(failed(inHand, describeError(err, files[inHand])));
         inHand = null;
       });
       worker.on('exit', (code) => {
         running--;
         if (inHand !== null) {
-          settle(failed(inHand, { error: `${files[inHand]}: the worker thread measuring it stopped (exit code ${code})`, internal: true }));
+          settle(failed(inHand, { error: `the worker thread measuring it stopped (exit code ${code})`, internal: true }));
           inHand = null;
         }
         if (next < total) {

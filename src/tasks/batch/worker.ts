@@ -14,6 +14,6 @@ port.on('message', (message: ToWorker) => {
   const { index, file } = message;
   runJob(job, file).then(
     (result) => port.postMessage({ index, result } satisfies FromWorker),
-    (err: unknown) => port.postMessage({ index, failure: describeError(err) } satisfies FromWorker),
+    (err: unknown) => port.postMessage({ index, failure: describeError(err, file) } satisfies FromWorker),
   );
 });
