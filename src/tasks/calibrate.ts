@@ -79,6 +79,10 @@ export interface CalibrateReport {
   rangeNm: [number, number];
   rangePx: [number, number];
   linesUsed: number;
+  /** Least and greatest 1σ of the fitted scale inside the range (nm), from the parameter covariance. */
+  scaleUncertaintyNm: [number, number];
+  /** RMS of each used line's prediction by the fit of the others (nm); null when too few lines. */
+  predictionRmsNm: number | null;
   linesPerMm?: number;
   linesPerMmUncertainty?: number;
   lines: Array<{
@@ -157,6 +161,8 @@ export function calibrateReport(
     rangeNm: [conv(fit.rangeNm[0]), conv(fit.rangeNm[1])],
     rangePx: fit.rangePx,
     linesUsed: fit.linesUsed,
+    scaleUncertaintyNm: [fit.scaleUncertaintyNm[0] * n(fit.rangeNm[0]), fit.scaleUncertaintyNm[1] * n(fit.rangeNm[1])],
+    predictionRmsNm: fit.predictionRmsNm,
     lines: fit.lines.map((l): CalibrateReport['lines'][number] => ({
       positionPx: l.positionPx,
       positionUncertaintyPx: l.positionUncertaintyPx,
@@ -243,6 +249,12 @@ export function formatCalibrateReport(r: CalibrateReport): string {
     `range ${r.rangeNm[0].toFixed(2)}–${r.rangeNm[1].toFixed(2)} ${unit}, ${r.dispersionNmPerPx.toFixed(4)} nm/px at its middle; ` +
       `RMS ${r.rmsNm.toFixed(3)} nm = ${r.rmsPx.toFixed(3)} px over ${r.linesUsed} lines`,
   );
+  const [uLo, uHi] = r.scaleUncertaintyNm;
+  const digits = (v: number) => (v >= 0.1 ? 2 : v >= 0.001 ? 3 : 4);
+  out.push(
+    `scale uncertainty (1σ) ${uLo.toFixed(digits(uLo))}–${uHi.toFixed(digits(uLo))} nm inside the range` +
+      (r.predictionRmsNm !== null ? `; each line predicted by the fit of the others to ${r.predictionRmsNm.toFixed(3)} nm RMS` : ''),
+  );
   if (r.match) {
     out.push(
       `matching: ${r.match.matched} of ${r.match.peaksInRange} peaks on lamp lines` +
@@ -252,14 +264,16 @@ export function formatCalibrateReport(r: CalibrateReport): string {
     const z = r.match.zeroOrder as
       | { seenPx: number; counted: boolean; predictedPx?: number; agreementHalfWidthPx?: number; chanceOfAgreement?: number }
       | undefined;
+    // The agreement is judged with the matching's scale, a grating model unless the matching fell back on polynomials.
+    const scaleName = m.kind === 'grating' || r.match.scoredWith !== 'grating' ? 'scale' : "matching's grating scale";
     if (z?.counted) {
       out.push(
-        `zero order: seen at ${z.seenPx.toFixed(1)} px, where the scale puts 0 nm (${z.predictedPx!.toFixed(1)} ± ${z.agreementHalfWidthPx!.toFixed(1)} px); ` +
+        `zero order: seen at ${z.seenPx.toFixed(1)} px, where the ${scaleName} puts 0 nm (${z.predictedPx!.toFixed(1)} ± ${z.agreementHalfWidthPx!.toFixed(1)} px); ` +
           `chance of that agreement ${z.chanceOfAgreement!.toExponential(1)}, counted in the bound`,
       );
     } else if (z) {
       out.push(
-        `zero order: seen at ${z.seenPx.toFixed(1)} px, but this scale does not put 0 nm there (a grating not square to the light, ` +
+        `zero order: seen at ${z.seenPx.toFixed(1)} px, but the ${scaleName} does not put 0 nm there (a grating not square to the light, ` +
           'or the spot is no zero order): not counted',
       );
     }

@@ -99,6 +99,34 @@ describe('glowprint calibrate <photo> --lamp fluorescent (the demo rig: 1000 lin
     expect(Math.abs(hg.lines_per_mm - truth.rig.lines_per_mm)).toBeLessThanOrEqual(2 * hg.lines_per_mm_uncertainty);
   });
 
+  it('--model poly with five Hg lines takes a parabola through all of them, not a straight line and a clipped end line', () => {
+    // The same photo and lamp: the four lines at 567–691 nm with a straight line once rejected Hg I 404.656 (NIST ASD)
+    // at -18.7 nm and reported 0.57 nm RMS over 567–691 nm.
+    const r = runCli(['calibrate', CFL, '--lamp', 'Hg', '--model', 'poly', '--json']);
+    expect(r.status).toBe(0);
+    const j = JSON.parse(r.stdout) as {
+      model: { kind: string; degree: number };
+      range_nm: [number, number];
+      rms_nm: number;
+      lines: Array<{ wavelength_nm: number; used: boolean; residual_nm: number }>;
+      scale_uncertainty_nm: [number, number];
+      prediction_rms_nm: number | null;
+    };
+    expect(j.model).toMatchObject({ kind: 'polynomial', degree: 2 });
+    const violet = j.lines.find((l) => Math.abs(l.wavelength_nm - 404.656) < 1e-3)!;
+    expect(violet.used).toBe(true);
+    expect(j.range_nm[0]).toBeLessThanOrEqual(405);
+    expect(j.rms_nm).toBeLessThanOrEqual(0.3);
+    // The scale's own uncertainty and how well each line is predicted by the others are stated beside the RMS.
+    expect(j.scale_uncertainty_nm[0]).toBeGreaterThan(0);
+    expect(j.scale_uncertainty_nm[1]).toBeGreaterThanOrEqual(j.scale_uncertainty_nm[0]);
+    expect(j.prediction_rms_nm).toBeGreaterThan(j.rms_nm);
+    const text = runCli(['calibrate', CFL, '--lamp', 'Hg', '--model', 'poly']).stdout;
+    expect(text).toMatch(/scale uncertainty \(1σ\) [\d.]+–[\d.]+ nm inside the range; each line predicted by the fit of the others to [\d.]+ nm RMS/);
+    // The zero-order agreement was judged with the matching's grating scale, not with this polynomial.
+    expect(text).toMatch(/zero order: seen at [-\d.]+ px, where the matching's grating scale puts 0 nm/);
+  });
+
   it('counts the zero order, seen where the renderer drew it, which the scale puts there too', async () => {
     // Truth: the renderer's zero order of the calibration photo (data/demo/truth.json), in the found band's frame.
     const photo = truth.photos.find((p) => p.file === 'cfl-calibration.jpg') as unknown as { zero_order: { image_px: { x: number; y: number } } };

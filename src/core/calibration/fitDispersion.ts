@@ -2,8 +2,8 @@ import { InputError, invalid } from '../errors.js';
 import { fitGrating, gratingLinesPerMm, type GratingFitOptions } from './gratingModel.js';
 import { dispersionAtNmPerPx, wavelengthAtNm, type DispersionModel } from './model.js';
 import { fitPolynomial, type PolynomialModel, type WeightedPoint } from './polynomialModel.js';
-import { informationCriterion } from './informationCriterion.js';
-import { modelSigmaNm } from './uncertainty.js';
+import { informationCriterion, informationCriterionKnownSigma } from './informationCriterion.js';
+import { modelSigmaNm, scaleSigmaRangeNm } from './uncertainty.js';
 
 /** A line with a known wavelength at a measured position: from a manual pair or from automatic matching. */
 export interface CalibrationPoint {
@@ -60,6 +60,11 @@ export interface FitDispersionOptions {
 
 /** The grating model may clip at most this share of the lines (beyond it, lens distortion or the like is at work). */
 const MAX_MODEL_CLIPPED = 0.15;
+/**
+ * Residuals this far beyond the centroid uncertainties (χ²/dof, i.e. 10× in RMS) say the scale's curve is not fitted,
+ * not that the uncertainties are a little optimistic (real photos run at χ²/dof of a few; common practice, no source).
+ */
+const CURVED_SCALE_REDUCED_CHI2 = 100;
 
 export const FIT_DISPERSION_DEFAULTS: FitDispersionOptions = {
   model: 'auto',
@@ -131,6 +136,13 @@ export interface DispersionFit {
   dof: number;
   criterion: 'aicc' | 'bic';
   candidates: ModelCandidate[];
+  /**
+   * RMS (nm) of the chosen model's leave-one-out prediction errors on the lines used: how well each line is predicted
+   * by the fit of the others (PRESS, Allen 1974); null when the lines are too few to leave one out.
+   */
+  predictionRmsNm: number | null;
+  /** Least and greatest standard uncertainty of the fitted scale inside rangePx, √(gᵀCg) (nm, ascending). */
+  scaleUncertaintyNm: [number, number];
   /** Grating model only: line density 10⁶/d and its standard uncertainty. */
   linesPerMm?: number;
   linesPerMmUncertainty?: number;
@@ -231,40 +243,64 @@ export function fitDispersion(points: readonly CalibrationPoint[], options: Part
         best = d;
       }
     }
+    // Residuals of the chosen degree far beyond the centroid uncertainties: the curve of the scale (or a wrong line)
+    // is not noise, and the criterion above, which estimates the residual variance from those residuals, cannot see it
+    // with few lines (it needs n ≥ degree + 4 to weigh a degree at all). Then the criterion with the variances known
+    // decides whether another degree is worth it (five lines of a fluorescent tube, 405–691 nm, through a wide-angle
+    // lens: a straight line misses the end line by 19 nm, a parabola fits all five to 0.15 nm). A wrong line that a
+    // higher degree bends towards is still clipped below, judged by the lines around it.
+    for (let d = best; d < o.maxDegree; d++) {
+      const lower = fitPoly(set, d);
+      if (!lower || !(lower.dof > 0) || lower.chi2 / lower.dof <= CURVED_SCALE_REDUCED_CHI2) break;
+      if (new Set(set.map((w) => w.point.positionPx)).size < d + 2) break;
+      const higher = fitPoly(set, d + 1);
+      if (!higher) break;
+      const known = (f: { chi2: number }, k: number) => informationCriterionKnownSigma(o.criterion, f.chi2, set.length, k);
+      if (!(known(higher, d + 2) < known(lower, d + 1) - 1e-9)) break;
+      best = d + 1;
+    }
     return best;
   };
+  /**
+   * The fewest lines a clipped line must leave: its leave-one-out residual needs a degree of freedom in the fit of the
+   * others. A line beyond the others (at an end of the range) is judged by the polynomial's extrapolation, which a
+   * degree the others alone could not be given (n ≥ degree + 3 under the criterion with known variances) does not
+   * bound: a correct end line would be taken for an outlier against the scale's unfitted curve.
+   */
+  const linesToKeep = (degree: number, endLine: boolean) => {
+    if (o.degree !== null || degree === 1 || !endLine) return Math.max(3, degree + 2);
+    return degree + 3;
+  };
 
-  // Iterative clipping: the line with the largest normalised residual is refitted without it; if its leave-one-out
-  // residual exceeds clipSigma standard deviations (its own σ scaled by the Birge ratio of the fit without it, plus
-  // the prediction's σ), it is clipped and the degree chosen again.
+  // Iterative clipping on leave-one-out (externally studentized) residuals: each line is predicted by the fit of the
+  // others, its error divided by its own σ scaled by the Birge ratio of that fit plus the prediction's σ (Belsley, Kuh &
+  // Welsch 1980, Regression Diagnostics, §2.1). The line furthest off is clipped when beyond clipSigma, and the degree
+  // chosen again. Judging every line by the others, not by a fit that includes it, keeps a wrong line at the end of the
+  // range that the polynomial bends towards from getting a correct neighbour clipped in its place when there are lines
+  // enough; with a handful, a polynomial cannot tell a wrong end line from the scale's curve (the grating model can).
   for (;;) {
     const used = work.filter((w) => w.used);
     const degree = chooseDegree(used);
-    const minKept = Math.max(3, degree + 2);
-    if (used.length <= minKept) break;
-    const fit = fitPoly(used, degree);
-    if (!fit) break;
+    if (used.length - 1 < Math.max(3, degree + 2)) break;
     let worst = -1;
     let worstZ = 0;
-    used.forEach((w, i) => {
-      const r = w.point.wavelengthNm - wavelengthAtNm(fit.model, w.point.positionPx);
-      const z = Math.abs(r) * Math.sqrt(weightOf(w));
+    for (let i = 0; i < used.length; i++) {
+      const others = used.filter((_, j) => j !== i);
+      const loo = fitPoly(others, degree);
+      if (!loo) continue;
+      const w = used[i];
+      const birge = loo.dof > 0 ? Math.max(1, loo.chi2 / loo.dof) : 1;
+      const sigma2 = birge / weightOf(w) + modelSigmaNm(loo.model, w.point.positionPx) ** 2;
+      const z = Math.abs(w.point.wavelengthNm - wavelengthAtNm(loo.model, w.point.positionPx)) / Math.sqrt(sigma2);
       if (z > worstZ) {
         worstZ = z;
         worst = i;
       }
-    });
-    if (worst < 0) break;
-    const others = used.filter((_, i) => i !== worst);
-    const loo = fitPoly(others, degree);
-    if (!loo) break;
-    const w = used[worst];
-    const birge = loo.dof > 0 ? Math.max(1, loo.chi2 / loo.dof) : 1;
-    const sigma2 = birge / weightOf(w) + modelSigmaNm(loo.model, w.point.positionPx) ** 2;
-    const z = Math.abs(w.point.wavelengthNm - wavelengthAtNm(loo.model, w.point.positionPx)) / Math.sqrt(sigma2);
-    if (z <= o.clipSigma) break;
-    w.used = false;
-    w.excluded = 'outlier';
+    }
+    if (worst < 0 || worstZ <= o.clipSigma) break;
+    if (used.length - 1 < linesToKeep(degree, worst === 0 || worst === used.length - 1)) break;
+    used[worst].used = false;
+    used[worst].excluded = 'outlier';
   }
 
   let used = work.filter((w) => w.used);
@@ -446,8 +482,21 @@ export function fitDispersion(points: readonly CalibrationPoint[], options: Part
         'a blend, a misidentified line or lens distortion; uncertainties are scaled up accordingly',
     );
   }
+  // The chosen model's leave-one-out prediction RMS (computed above when the two models were compared).
+  const chosenRow = candidates.find((c) => c.chosen);
+  let predictionRmsNm = chosenRow?.predictionRmsNm ?? null;
+  if (predictionRmsNm === null && chosen.kind === 'polynomial' && used.length > degree + 1) {
+    const p = press(used, (set) => fitPoly(set, degree)?.model ?? null, weightOf);
+    if (Number.isFinite(p.rmsNm)) {
+      predictionRmsNm = p.rmsNm;
+      if (chosenRow) chosenRow.predictionRmsNm = p.rmsNm;
+    }
+  }
+  if (predictionRmsNm !== null && !Number.isFinite(predictionRmsNm)) predictionRmsNm = null;
   const result: DispersionFit = {
     model: chosen,
+    predictionRmsNm,
+    scaleUncertaintyNm: scaleSigmaRangeNm(chosen, rangePx),
     checkModel: chosen.kind === 'polynomial' ? checkModel : null,
     rangePx,
     rangeNm: [Math.min(l0, l1), Math.max(l0, l1)],

@@ -723,7 +723,7 @@ function densestStretch(pairs: readonly Pair[]): Pair[] {
 /** 10^log10 as a count for a message: "2", "350", "4.2e5". */
 function formatCount(log10: number): string {
   const v = 10 ** log10;
-  return v < 1e4 ? String(Math.max(1, Math.round(v))) : v.toExponential(1);
+  return v < 1e4 ? String(Math.max(1, Math.round(v))) : v.toExponential(1).replace('e+', 'e');
 }
 
 function formatProbability(p: number): string {

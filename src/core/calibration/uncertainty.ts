@@ -13,6 +13,17 @@ export function modelSigmaNm(model: DispersionModel, xPx: number): number {
   return Math.sqrt(Math.max(0, s));
 }
 
+/** Least and greatest √(gᵀCg) over [loPx, hiPx] (nm, ascending), sampled at 101 points. */
+export function scaleSigmaRangeNm(model: DispersionModel, rangePx: readonly [number, number]): [number, number] {
+  const out: [number, number] = [Infinity, 0];
+  for (let k = 0; k <= 100; k++) {
+    const u = modelSigmaNm(model, rangePx[0] + ((rangePx[1] - rangePx[0]) * k) / 100);
+    out[0] = Math.min(out[0], u);
+    out[1] = Math.max(out[1], u);
+  }
+  return out;
+}
+
 export function polynomialSigmaNm(model: PolynomialModel, xPx: number): number {
   // gᵀCg with g_j = t^j, without allocating (called in the matcher's inner loops).
   const t = (xPx - model.centerPx) / model.scalePx;

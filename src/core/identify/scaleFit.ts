@@ -1,6 +1,7 @@
 import { fitDispersion, type CalibrationPoint, type DispersionFit, type FittedLine } from '../calibration/fitDispersion.js';
 import { dispersionAtNmPerPx, wavelengthAtNm } from '../calibration/model.js';
 import { fitPolynomial, polynomialDispersionNmPerPx, type PolynomialModel } from '../calibration/polynomialModel.js';
+import { scaleSigmaRangeNm } from '../calibration/uncertainty.js';
 import { InputError } from '../errors.js';
 
 /**
@@ -104,6 +105,8 @@ export function fitScale(points: readonly CalibrationPoint[]): ScaleFit | null {
   const dof = points.length - (degree + 1);
   return {
     model,
+    predictionRmsNm: null,
+    scaleUncertaintyNm: scaleSigmaRangeNm(model, rangePx),
     checkModel: check && check.model.degree >= 1 ? check.model : null,
     rangePx,
     rangeNm: [Math.min(l0, l1), Math.max(l0, l1)],

@@ -54,6 +54,53 @@ describe('fitDispersion(points, options)', () => {
     expect(curved.candidates.filter((c) => c.chosen)).toHaveLength(1);
   });
 
+  it('five lines of a curved scale: the end line is fitted with a parabola, not clipped against a straight line', () => {
+    // Hg I 404.656, 567.581, 576.960, 671.634, 690.746 (NIST ASD) through the wide-angle rig: a straight line through
+    // the four long ones misses 404.656 by ~19 nm, which is the scale's curve, not a wrong line.
+    const five = lines([404.656, 567.581, 576.96, 671.634, 690.746], 0.03, 21);
+    const fit = fitDispersion(five, { model: 'polynomial' });
+    expect(fit.model).toMatchObject({ kind: 'polynomial', degree: 2 });
+    expect(fit.linesUsed).toBe(5);
+    expect(fit.lines.every((l) => l.used)).toBe(true);
+    expect(fit.rangeNm[0]).toBeLessThan(405);
+    // A parabola leaves the grating's cubic term: residuals of a few tenths of a nm, stated, not hidden by a clip.
+    expect(fit.rmsNm).toBeLessThan(0.5);
+    // A real outlier among six lines is still clipped (2 nm off, as in the test below).
+    const six = lines([404.656, 435.833, 567.581, 576.96, 671.634, 690.746], 0.03, 22);
+    six[3] = { ...six[3], wavelengthNm: six[3].wavelengthNm + 2 };
+    const clipped = fitDispersion(six, { model: 'polynomial' });
+    expect(clipped.lines.filter((l) => l.excluded === 'outlier').map((l) => l.wavelengthNm)).toEqual([578.96]);
+  });
+
+  it('states the scale uncertainty inside the range and the leave-one-out prediction RMS (straight line, closed forms)', () => {
+    // Equal σ, a straight line, no noise (χ² = 0, so no Birge scaling): σ_λ(x)² = σ²(1/n + (x − x̄)²/Sxx) with σ = σx·|b|
+    // (Bevington & Robinson, Data Reduction and Error Analysis, 3rd ed., §6.5), least at x̄ and greatest at the ends.
+    const xs = [100, 250, 400, 550, 700, 850];
+    const b = 0.4;
+    const sx = 0.1;
+    const exact: CalibrationPoint[] = xs.map((x) => ({ positionPx: x, positionUncertaintyPx: sx, wavelengthNm: 400 + b * x, source: 'matched' }));
+    const fit = fitDispersion(exact, { model: 'polynomial', degree: 1 });
+    const mean = xs.reduce((a, x) => a + x, 0) / xs.length;
+    const sxx = xs.reduce((a, x) => a + (x - mean) ** 2, 0);
+    const sigma = sx * b;
+    const at = (x: number) => sigma * Math.sqrt(1 / xs.length + (x - mean) ** 2 / sxx);
+    expect(Math.abs(fit.scaleUncertaintyNm[0] - at(mean))).toBeLessThanOrEqual(1e-6);
+    expect(Math.abs(fit.scaleUncertaintyNm[1] - at(xs[0]))).toBeLessThanOrEqual(1e-6);
+    // Leave-one-out errors of least squares are e_i / (1 − h_ii), h_ii = 1/n + (x_i − x̄)²/Sxx (Allen 1974; the
+    // PRESS identity, e.g. Montgomery, Peck & Vining, Introduction to Linear Regression Analysis, §4.3).
+    const noisy = exact.map((p, i) => ({ ...p, wavelengthNm: p.wavelengthNm + 0.05 * Math.sin(3 * i + 1) }));
+    const f2 = fitDispersion(noisy, { model: 'polynomial', degree: 1 });
+    const press = noisy.map((p) => {
+      const e = p.wavelengthNm - f2.lines.find((l) => l.positionPx === p.positionPx)!.fittedNm;
+      const h = 1 / xs.length + (p.positionPx - mean) ** 2 / sxx;
+      return (e / (1 - h)) ** 2;
+    });
+    const expected = Math.sqrt(press.reduce((a, v) => a + v, 0) / press.length);
+    expect(Math.abs(f2.predictionRmsNm! - expected)).toBeLessThanOrEqual(1e-9);
+    // Two lines leave nothing to predict from.
+    expect(fitDispersion(exact.slice(0, 2), { model: 'polynomial' }).predictionRmsNm).toBeNull();
+  });
+
   it('recovers λ(x) of the physical model within 0.02 nm over the lines (polynomial and grating)', () => {
     for (const model of ['polynomial', 'grating'] as const) {
       const fit = fitDispersion(lines(NE, 0.05, 2), { model, grating: PRIORS });
