@@ -231,6 +231,15 @@ export function calibrateReport(
   return report;
 }
 
+/** The focal length with its uncertainty and where it came from: fixed when given, else fitted (to an EXIF prior). */
+function focalLengthText(m: Record<string, unknown>): string {
+  const f = (m.focalLengthPx as number).toFixed(0);
+  const u = m.focalLengthUncertaintyPx as number;
+  if (m.focalLengthSource === 'given') return `${f} px (given)`;
+  const pm = Number.isFinite(u) && u > 0 ? ` ± ${u.toFixed(0)}` : '';
+  return `${f}${pm} px (${m.focalLengthSource === 'exif' ? 'fitted to the EXIF focal length' : 'fitted'})`;
+}
+
 /** The readable summary and residual table of a calibration. */
 export function formatCalibrateReport(r: CalibrateReport): string {
   const out: string[] = [];
@@ -240,7 +249,7 @@ export function formatCalibrateReport(r: CalibrateReport): string {
   if (m.kind === 'grating') {
     out.push(
       `model: grating, order ${m.order}: ${(m.linesPerMm as number).toFixed(1)} ± ${(m.linesPerMmUncertainty as number).toFixed(1)} lines/mm, ` +
-        `camera at ${(m.cameraAngleDeg as number).toFixed(2)}°, f = ${(m.focalLengthPx as number).toFixed(0)} px (${m.focalLengthSource})`,
+        `camera at ${(m.cameraAngleDeg as number).toFixed(2)}°, f = ${focalLengthText(m)}`,
     );
   } else {
     out.push(`model: polynomial of degree ${m.degree}`);

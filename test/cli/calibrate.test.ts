@@ -113,6 +113,8 @@ describe('glowprint calibrate <photo> --lamp fluorescent (the demo rig: 1000 lin
       prediction_rms_nm: number | null;
     };
     expect(j.model).toMatchObject({ kind: 'polynomial', degree: 2 });
+    // (The grating model's summary, for comparison: f says it was fitted, to the EXIF prior, with its uncertainty.)
+    expect(runCli(['calibrate', CFL, '--lamp', 'Hg']).stdout).toMatch(/f = \d+ ± \d+ px \(fitted to the EXIF focal length\)/);
     const violet = j.lines.find((l) => Math.abs(l.wavelength_nm - 404.656) < 1e-3)!;
     expect(violet.used).toBe(true);
     expect(j.range_nm[0]).toBeLessThanOrEqual(405);
@@ -218,6 +220,16 @@ describe('glowprint calibrate: bad input gets one clear message, exit 1, nothing
     const ok = runCli(['calibrate', CFL, '--lamp', 'Hg', '--pairs', `${at567}=567.581,${at671}=671.634`, '--json']);
     expect(ok.status).toBe(0);
     expect((JSON.parse(ok.stdout) as { lines: unknown[] }).lines.length).toBeGreaterThan(4);
+  });
+
+  it('a wrong --direction is named as the mistake, not the lamp', () => {
+    // The demo rig's wavelength grows along the band (as its calibration says); told the opposite, the matching finds nothing, but
+    // the other direction matches: the message names --direction.
+    const r = runCli(['calibrate', CFL, '--lamp', 'fluorescent', '--direction', 'decreasing']);
+    expect(r.status).toBe(1);
+    expect(r.stderr.trim().split('\n')).toHaveLength(1);
+    expect(r.stderr).toMatch(/--direction decreasing: the lamp's lines match the peaks only with wavelength increasing along the band .*give --direction increasing/);
+    expect(r.stderr).not.toMatch(/wrong lamp/);
   });
 
   it('a single laser line cannot calibrate alone', () => {

@@ -157,6 +157,7 @@ export function calibrateFromPeaks(
     const priors = g && (g.focalLengthPx || g.axisPositionPx) ? g : null;
     match = matchLines(peaks, usable, { grating: priors, ...CALIBRATE_MATCH_DEFAULTS, ...o.match, pairs: o.pairs, snapPx: o.snapPx });
     warnings.push(...match.warnings);
+    if (!match.accepted && o.match.direction !== undefined && o.match.direction !== 'either') checkDirection(peaks, usable, o, priors);
     if (!match.accepted && o.pairs.length < 2) throw new InputError(match.message, 'lamp');
     if (!match.accepted) match = checkPairsAgainstLamp(peaks, usable, match, o, priors, warnings);
   }
@@ -266,6 +267,23 @@ export function calibrateFromPeaks(
 }
 
 /**
+ * The lamp's lines did not match with the direction given: when they match with the other one, the direction is the
+ * mistake (a photo flipped, the rig turned round), and the error says so rather than blaming the lamp.
+ */
+function checkDirection(peaks: readonly Peak[], usable: readonly SpectralLine[], o: CalibrateOptions, priors: MatchLinesOptions['grating']): void {
+  const given = o.match.direction;
+  const other = given === 'increasing' ? 'decreasing' : 'increasing';
+  const flipped = matchLines(peaks, usable, { grating: priors, ...CALIBRATE_MATCH_DEFAULTS, ...o.match, direction: other, pairs: o.pairs, snapPx: o.snapPx });
+  if (!flipped.accepted) return;
+  throw new InputError(
+    `--direction ${given}: the lamp's lines match the peaks only with wavelength ${other} along the band ` +
+      `(${flipped.score?.matched ?? flipped.matches.length} peaks, false-match bound ${(flipped.score?.falseMatchProbability ?? NaN).toExponential(1)}); ` +
+      `give --direction ${other}, or leave it out to let the matching decide`,
+    'direction',
+  );
+}
+
+/**
  * The lamp's lines did not match together with two or more pairs. Without the pairs they may match on their own: then
  * the scale they give is an independent check of the pairs. A pair it contradicts (a line misread, a digit slipped,
  * another lamp's line) is an error naming the pair and what the lamp's scale reads there; pairs it agrees with were only
@@ -298,7 +316,7 @@ function checkPairsAgainstLamp(
     const one = wrong.length === 1;
     throw new InputError(
       `--pairs ${wrong.map((r) => `${r.pair.positionPx}=${r.pair.wavelengthNm}`).join(', ')} ${one ? 'contradicts' : 'contradict'} the lamp's lines: ` +
-        `on their own they match ${alone.matches.length} peaks (false-match bound ${(alone.score?.falseMatchProbability ?? NaN).toExponential(1)}) ` +
+        `on their own they match ${alone.score?.matched ?? alone.matches.length} peaks (false-match bound ${(alone.score?.falseMatchProbability ?? NaN).toExponential(1)}) ` +
         `and their scale reads ${what.join('; ')}; tied to the pair${one ? '' : 's'} they match no scale. ` +
         `Correct or drop the pair${one ? '' : 's'}, or check --lamp`,
       'pairs',

@@ -472,7 +472,11 @@ export function fitDispersion(points: readonly CalibrationPoint[], options: Part
     );
   }
   if (usedLines.length === 2) {
-    warnings.push('only two lines: the scale is a straight line through them with nothing to check it; its uncertainty covers centroid noise only');
+    warnings.push(
+      chosen.kind === 'grating'
+        ? "only two lines: the scale is the grating model through them, its focal length and axis held by their priors, with nothing to check it; its uncertainty covers centroid noise and the priors' spread only"
+        : 'only two lines: the scale is a straight line through them with nothing to check it; its uncertainty covers centroid noise only',
+    );
   } else if (chosenDof <= 0) {
     warnings.push(`${usedLines.length} lines for ${usedLines.length - chosenDof} parameters: no residual check of the model`);
   }

@@ -186,7 +186,15 @@ describe('fitDispersion(points, options)', () => {
     expect(() => fitDispersion(one)).toThrow(/only one line.*at least two lines/);
     const two = fitDispersion(lines([435.833, 546.074], 0.1, 6), { model: 'polynomial' });
     expect(two.model).toMatchObject({ kind: 'polynomial', degree: 1 });
-    expect(two.warnings.join(' ')).toMatch(/only two lines/);
+    expect(two.warnings.join(' ')).toMatch(/only two lines: the scale is a straight line/);
+    // With priors for f and x0 the grating model goes through two lines; the warning must not call it a straight line.
+    const g = fitDispersion(lines([435.833, 611.6], 0.1, 6), {
+      model: 'grating',
+      grating: { focalLengthPx: { value: F, sigma: 0.02 * F }, axisPositionPx: { value: 972, sigma: 30 } },
+    });
+    expect(g.model.kind).toBe('grating');
+    expect(g.warnings.join(' ')).toMatch(/only two lines: the scale is the grating model through them/);
+    expect(g.warnings.join(' ')).not.toMatch(/straight line/);
   });
 
   it('two wavelengths at one position is a contradiction in the pairs', () => {
