@@ -77,9 +77,9 @@ export interface FindBandDiagnostics {
   threshold: number;
   /** The zero order found on the axis and left out of the band, with its position along the final band. */
   zeroOrder: (PointPx & { positionPx: number }) | null;
-  /** Standard uncertainty of the axis angle from the last centroid fit (deg). */
+  /** Standard uncertainty of the axis angle from the last centroid fit (deg; see band/refine.ts). */
   angleUncertaintyDeg: number;
-  /** Standard uncertainty of the slant (deg); null when it could not be measured. */
+  /** Standard uncertainty of the slant (deg), the axis angle's included; null when it could not be measured. */
   slantUncertaintyDeg: number | null;
   slantMeasured: boolean;
   /** Columns that carried enough light for the axis fit. */
@@ -220,7 +220,9 @@ export function findBand(image: LinearImage, options: FindBandOptions & { coarse
   slantSeen ||= refined.report.slantMeasured;
   band = withHeight(image, refined.band, ambient);
   band = withMemberExtent(band, coarse.memberEnds, image.width, image.height);
-  refined = refineBand(image, band, { iterations: 1, slant: measureSlant, ambient, scratch });
+  // The axis so far, with its uncertainty, stands when this last pass cannot fit it (the slant's uncertainty needs it).
+  const earlierAngleUncertaintyDeg = refined.report.angleUncertaintyDeg;
+  refined = refineBand(image, band, { iterations: 1, slant: measureSlant, ambient, scratch, startAngleUncertaintyDeg: earlierAngleUncertaintyDeg });
   slantSeen ||= refined.report.slantMeasured;
   band = refined.band;
   const height = measureHeight(image, band, ambient, scratch);
@@ -257,7 +259,7 @@ export function findBand(image: LinearImage, options: FindBandOptions & { coarse
       noiseSigma: coarse.noiseSigma,
       threshold: coarse.threshold,
       zeroOrder: coarse.zeroOrder ? { ...coarse.zeroOrder, positionPx: imageToBandPx(band, coarse.zeroOrder).positionPx } : null,
-      angleUncertaintyDeg: refined.report.angleUncertaintyDeg,
+      angleUncertaintyDeg: Number.isFinite(refined.report.angleUncertaintyDeg) ? refined.report.angleUncertaintyDeg : earlierAngleUncertaintyDeg,
       slantUncertaintyDeg: refined.report.slantUncertaintyDeg,
       slantMeasured: slantSeen,
       columnsUsed: refined.report.columnsUsed,
