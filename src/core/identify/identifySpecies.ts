@@ -98,7 +98,7 @@ export interface MatchedLine {
   blendedWithNm?: number[];
   /** A molecular band head rather than an atomic line. */
   molecular?: boolean;
-  /** Diffraction order, when not the first (a second-order image of a line seen in first order too). */
+  /** Diffraction order, when not the first (a second-order image: of a line seen in first order too, or told by its colour). */
   order?: number;
 }
 
@@ -253,6 +253,7 @@ export function identifySpecies(peaks: readonly CalibratedPeak[], options: Ident
   const firstOrder = lineLike.filter(
     (p) =>
       p.area >= 0.01 * brightestLine &&
+      !secondOrderByColour(p) &&
       !lineLike.some(
         (q) =>
           q.area >= 3 * p.area &&
@@ -305,6 +306,11 @@ export function identifySpecies(peaks: readonly CalibratedPeak[], options: Ident
   const brightest = area.reduce((m, a) => Math.max(m, a), 0) || 1;
   const classes = Int32Array.from(area, (a) => FLUX_CLASS_EDGES.filter((edge) => a < edge * brightest).length);
   const tables: TemplateMatch[] = templates.map((t) => matchTemplate(t, lambda, sigma, widthNm, o.matchSigma));
+  // A peak the camera saw as blue is no first-order line beyond the red: no line of any species there (labelSecondOrder
+  // may still name it as the second-order image of a line at half its reading).
+  usable.forEach((p, i) => {
+    if (secondOrderByColour(p)) for (const t of tables) t.ratio[i] = 0;
+  });
   // A species none of whose features any peak reaches cannot gain evidence: skip its fits.
   const reachable = tables.map((t) => t.ratio.some((r) => r > 0));
 
@@ -527,7 +533,7 @@ export function identifySpecies(peaks: readonly CalibratedPeak[], options: Ident
     if (t.molecular) line.molecular = true;
     return { ...p, line, matchSigma: table.z[i], confidence: bestR };
   });
-  labelSecondOrder(identified, area, sigma, present.map((s) => ({ template: templates[s], table: tables[s] })), o.matchSigma);
+  labelSecondOrder(identified, area, sigma, present.map((s) => ({ template: templates[s], table: tables[s] })), o.matchSigma, options.lines);
 
   const fluxOf = new Map<string, number>();
   for (let i = 0; i < n; i++) {
@@ -571,9 +577,26 @@ export function identifySpecies(peaks: readonly CalibratedPeak[], options: Ident
 }
 
 /**
+ * Beyond this first-order reading (nm) a peak recorded as blue — more than half its signal in the blue channel — is
+ * second-order light: light beyond the red reaches a colour sensor, if at all, through its red filter or all three
+ * alike, never mostly the blue (common practice, no source), while an order-2 image of a 350–470 nm line is blue and
+ * lands at 700–940 nm on a first-order scale.
+ */
+export const SECOND_ORDER_COLOUR_MIN_NM = 700;
+
+/** See SECOND_ORDER_COLOUR_MIN_NM. Peaks without colour (a spectrum CSV of one channel) are never flagged. */
+export function secondOrderByColour(p: CalibratedPeak): boolean {
+  if (!p.rgb || !(p.wavelengthNm > SECOND_ORDER_COLOUR_MIN_NM)) return false;
+  const { r, g, b } = p.rgb;
+  const sum = r + g + b;
+  return sum > 0 && b / sum > 0.5;
+}
+
+/**
  * A grating sends every line into the second order too, at twice its first-order position on a scale calibrated in
  * order 1 (mλ = d(sin α + sin β)): an unexplained peak at λ whose λ/2 is a line of a present species, seen itself in
- * first order at least 3× brighter, is that line's second order.
+ * first order at least 3× brighter, is that line's second order; so is a peak blue beyond the red (secondOrderByColour)
+ * at half whose reading a present species has a listed line, seen in first order or not.
  */
 function labelSecondOrder(
   identified: IdentifiedPeak[],
@@ -581,7 +604,11 @@ function labelSecondOrder(
   sigma: Float64Array,
   present: ReadonlyArray<{ template: SpeciesTemplate; table: TemplateMatch }>,
   matchSigma: number,
+  lines: readonly SpectralLine[],
 ): void {
+  const presentElements = new Set(present.map((s) => s.template.element));
+  const strongest = new Map<string, number>();
+  for (const l of lines) if (presentElements.has(l.element)) strongest.set(l.element, Math.max(strongest.get(l.element) ?? 0, l.intensity));
   identified.forEach((p, i) => {
     if (p.line) return;
     const half = p.wavelengthNm / 2;
@@ -593,6 +620,27 @@ function labelSecondOrder(
         const tol = matchSigma * Math.sqrt((sigma[i] / 2) ** 2 + f.spreadSigmaNm ** 2 + sigma[j] ** 2);
         if (Math.abs(half - first.wavelengthNm) > tol) continue;
         identified[i] = { ...p, line: { ...first.line, order: 2 }, matchSigma: Math.abs(half - first.wavelengthNm) / tol * matchSigma, confidence: 1 };
+        return;
+      }
+    }
+    // Blue beyond the red is second-order light for certain: its line need not show in first order (it may lie
+    // short of the band's blue end), so the present species' listed lines at half the reading are taken directly,
+    // the strongest of its species within the tolerance.
+    if (secondOrderByColour(p)) {
+      const tol = matchSigma * (sigma[i] / 2);
+      let best: SpectralLine | undefined;
+      for (const l of lines) {
+        if (!presentElements.has(l.element) || Math.abs(l.wavelengthNm - half) > tol) continue;
+        const rel = l.intensity / (strongest.get(l.element) || 1);
+        if (!best || rel > best.intensity / (strongest.get(best.element) || 1)) best = l;
+      }
+      if (best) {
+        identified[i] = {
+          ...p,
+          line: { element: best.element, spectrum: best.spectrum, wavelengthNm: best.wavelengthNm, order: 2 },
+          matchSigma: (Math.abs(half - best.wavelengthNm) / (sigma[i] / 2)) || 0,
+          confidence: 1,
+        };
         return;
       }
     }

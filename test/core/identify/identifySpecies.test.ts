@@ -155,6 +155,33 @@ describe('identifySpecies: what else is in it', () => {
     expect(r.unexplained).toEqual([]);
   });
 
+  it('takes a blue peak beyond the red for a second-order image, seen in first order or not; a red one stays first order', () => {
+    // An argon-mercury tube (lines from NIST ASD) on a scale reaching 900 nm. At 2 × Hg I 404.656, Ar I 415.859 and
+    // Ar I 420.067 nm the camera records blue light (the order-2 images, mλ = d sin θ), near Ar I 810.369, 840.821 nm;
+    // Ar I 811.531 nm itself is recorded red. Hg 404.656 and Ar 415.859 lie short of the band, unseen in first order.
+    const rng = createRandom(11);
+    const first = synthesize([['Ar', 1], ['Hg', 0.6]], rng, { strays: 0 }).filter((p) => p.wavelengthNm > 425);
+    const top = Math.max(...first.map((p) => p.area));
+    const blue = { r: 0.1, g: 0.03, b: 0.87 };
+    const red = { r: 0.9, g: 0.05, b: 0.05 };
+    const peaks = [
+      ...first,
+      peakAt(2 * 404.656 + 0.3, 0.05 * top, { wavelengthUncertaintyNm: 0.5, rgb: blue }),
+      peakAt(2 * 415.859 + 0.4, 0.05 * top, { wavelengthUncertaintyNm: 0.6, rgb: blue }),
+      peakAt(2 * 420.067 + 0.3, 0.05 * top, { wavelengthUncertaintyNm: 0.7, rgb: blue }),
+      peakAt(811.531 + 0.2, 0.08 * top, { wavelengthUncertaintyNm: 0.5, rgb: red }),
+    ];
+    // A phone camera behind its IR-cut filter sees to about 700 nm (common practice, no source).
+    const r = identifySpecies(peaks, { lines: projectLines, rangeNm: [425, 900], sensitiveRangeNm: [425, 700] });
+    const at = (w: number) => r.peaks.find((p) => Math.abs(p.wavelengthNm - w) < 0.01)!.line;
+    expect(at(2 * 404.656 + 0.3)).toMatchObject({ element: 'Hg', wavelengthNm: 404.656, order: 2 });
+    expect(at(2 * 415.859 + 0.4)).toMatchObject({ element: 'Ar', wavelengthNm: 415.859, order: 2 });
+    expect(at(2 * 420.067 + 0.3)).toMatchObject({ element: 'Ar', wavelengthNm: 420.067, order: 2 });
+    const ir = at(811.531 + 0.2);
+    expect(ir).toMatchObject({ element: 'Ar', wavelengthNm: 811.531 });
+    expect(ir?.order).toBeUndefined();
+  });
+
   it('offers nitrogen band heads as a molecular candidate, marked molecular', () => {
     // N2 second-positive band heads 380.49, 375.54, 371.05, 357.69 nm and N2+ 391.44 nm (Pearse & Gaydon's tables,
     // from memory); a band's peak at camera resolution sits a few tenths of a nm to the violet of its head.
