@@ -1,6 +1,7 @@
 import { promises as fs } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
+import { Ajv2020 } from 'ajv/dist/2020.js';
 import { afterAll, describe, expect, it } from 'vitest';
 import { fitDispersion, type CalibrationPoint } from '../../../src/core/calibration/fitDispersion.js';
 import type { GratingModel } from '../../../src/core/calibration/gratingModel.js';
@@ -18,7 +19,7 @@ import { InputError } from '../../../src/core/errors.js';
 import { createRandom } from '../../../src/core/random.js';
 import { bandPointPx } from '../../../src/core/spectrum/band/frame.js';
 import type { BandGeometry, Peak } from '../../../src/core/types.js';
-import { parseProfileText, readProfile, writeProfile } from '../../../src/io/profileFile.js';
+import { instrumentProfileSchema, parseProfileText, readProfile, writeProfile } from '../../../src/io/profileFile.js';
 
 const TRUTH: GratingModel = {
   kind: 'grating',
@@ -108,6 +109,56 @@ describe('instrument profile JSON (format glowprint-instrument-profile, version 
     asym.model.covariance[0][1] = asym.model.covariance[1][0] + 1;
     expect(() => parseProfileText(JSON.stringify(asym), 'p.json')).toThrow(/model\.covariance\[[01]\]\[[01]\]: expected the symmetric element/);
     expect(() => parseProfileText('[1, 2', 'p.json')).toThrow(/p\.json: not a valid JSON file/);
+  });
+
+  it('judges a hand-edited model by the kind it declares, naming the field and what it holds', () => {
+    const grating = profileToJson(makeProfile('grating')) as { model: Record<string, unknown> };
+    const message = (edit: (json: Record<string, Record<string, unknown>>) => void, base: object = grating): string => {
+      const json = structuredClone(base) as Record<string, Record<string, unknown>>;
+      edit(json);
+      try {
+        parseProfileText(JSON.stringify(json), 'p.json');
+      } catch (err) {
+        expect(err).toBeInstanceOf(InputError);
+        return (err as Error).message;
+      }
+      throw new Error('the edited profile was accepted');
+    };
+    // Not the polynomial's fields ('missing field "degree"; … (and 11 more)'): the grating's own field, and its value.
+    expect(message((j) => (j.model.groove_spacing_nm = 'abc'))).toBe('p.json: not a usable instrument profile: model.groove_spacing_nm: expected a number, got "abc"');
+    expect(message((j) => delete j.model.focal_length_px)).toBe('p.json: not a usable instrument profile: model: missing field "focal_length_px" (a "grating" model needs it)');
+    expect(message((j) => (j.model.order = 0))).toBe('p.json: not a usable instrument profile: model.order: expected a number ≥ 1, got 0');
+    expect(message((j) => ((j.model.covariance as unknown[][])[1][2] = 'x'))).toBe('p.json: not a usable instrument profile: model.covariance[1][2]: expected a number, got "x"');
+    // An unknown kind says which kinds there are; a missing one says it is missing.
+    expect(message((j) => (j.model.kind = 'prism'))).toBe('p.json: not a usable instrument profile: model.kind: expected one of "polynomial", "grating", got "prism"');
+    expect(message((j) => delete j.model.kind)).toBe('p.json: not a usable instrument profile: model: missing field "kind"');
+    // A grating model relabelled as a polynomial is judged as a polynomial, and says so.
+    expect(message((j) => (j.model.kind = 'polynomial'))).toMatch(
+      /^p\.json: not a usable instrument profile: model: missing fields "degree", "center_px", "scale_px", "coefficients_nm" \(a "polynomial" model needs them\); model: unknown fields "order", .*"free" \(not part of a "polynomial" model\)$/,
+    );
+    const polynomial = profileToJson(makeProfile('polynomial')) as { model: Record<string, unknown>; check_model: Record<string, unknown> };
+    expect(polynomial.check_model).not.toBeNull();
+    expect(message((j) => (j.model.degree = 'two'), polynomial)).toBe('p.json: not a usable instrument profile: model.degree: expected an integer, got "two"');
+    // check_model likewise: a polynomial or null.
+    expect(message((j) => (j.check_model.scale_px = 'abc'), polynomial)).toBe('p.json: not a usable instrument profile: check_model.scale_px: expected a number, got "abc"');
+    expect(message((j) => delete j.check_model.coefficients_nm, polynomial)).toBe(
+      'p.json: not a usable instrument profile: check_model: missing field "coefficients_nm" (a "polynomial" model needs it)',
+    );
+    expect(message((j) => ((j as Record<string, unknown>).check_model = 'none'), polynomial)).toBe('p.json: not a usable instrument profile: check_model: expected an object or null, got "none"');
+    expect(message((j) => (j.check_model.kind = 'grating'), polynomial)).toBe('p.json: not a usable instrument profile: check_model.kind: expected "polynomial", got "grating"');
+    // The other nullable objects name their field, not "must be null".
+    expect(message((j) => ((j.band.center as Record<string, unknown>).x = 'left'))).toBe('p.json: not a usable instrument profile: band.center.x: expected a number, got "left"');
+  });
+
+  it('ships its schema as valid JSON Schema draft 2020-12 (ajv strict mode), which accepts both kinds of profile and rejects an unknown kind', () => {
+    const schema = instrumentProfileSchema() as { $schema: string };
+    expect(schema.$schema).toBe('https://json-schema.org/draft/2020-12/schema');
+    const validate = new Ajv2020({ allErrors: true, strict: true }).compile(schema);
+    for (const kind of ['polynomial', 'grating'] as const) {
+      const json = profileToJson(makeProfile(kind));
+      expect(validate(json), JSON.stringify(validate.errors)).toBe(true);
+      expect(validate({ ...json, model: { ...(json.model as object), kind: 'prism' } })).toBe(false);
+    }
   });
 
   it('is written atomically, never over an input, and refuses to save an unusable calibration', async () => {
