@@ -10,7 +10,7 @@ import { batchOutput } from '../tasks/batch/batchOutput.js';
 import { perInputName } from '../tasks/batch/perInputName.js';
 import { parseWorkers, runBatch } from '../tasks/batch/runBatch.js';
 import { identifyLines } from '../tasks/identify.js';
-import { action, note, printJson } from './run.js';
+import { action, note, printJson, requireReadableFile } from './run.js';
 
 interface IdentifyCliOptions {
   calibration?: string;
@@ -67,6 +67,8 @@ export function registerIdentify(program: Command): void {
     .action(
       action(async (inputs: string[], opts: IdentifyCliOptions) => {
         const warnings: string[] = [];
+        // A line list that is not there, or a folder, is named as such before it is parsed.
+        if (opts.lineList !== undefined) await requireReadableFile(opts.lineList, '--line-list');
         const lines = identifyLines(opts, warnings);
         const profile = opts.calibration ? await readProfile(opts.calibration) : undefined;
         const readFiles = [...inputs, ...(opts.calibration ? [opts.calibration] : []), ...(opts.lineList ? [opts.lineList] : [])];

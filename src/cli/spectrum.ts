@@ -1,16 +1,18 @@
 import { type Command, Option } from 'commander';
+import { promises as fs } from 'node:fs';
 import path from 'node:path';
 import { InputError } from '../core/errors.js';
 import { HIGH_VOLTAGE_CAUTION, LASER_CAUTION, UV_CAUTION } from '../core/safety.js';
 import { DECODE_IMAGE_DEFAULTS } from '../io/image.js';
 import { readProfile } from '../io/profileFile.js';
+import { sniffKind } from '../io/sniff.js';
 import { writeFileAtomic } from '../io/writeAtomic.js';
 import { analyseSpectrumInput, formatSpectrumTable, parseBandOption, spectrumSvg, spectrumToCsv } from '../tasks/spectrum.js';
 import { batchOutput } from '../tasks/batch/batchOutput.js';
 import { batchProgress } from '../tasks/batch/progress.js';
 import { perInputName } from '../tasks/batch/perInputName.js';
 import { parseWorkers, runBatch } from '../tasks/batch/runBatch.js';
-import { action, note, numberOption, printJson } from './run.js';
+import { action, note, numberOption, printJson, requireReadableFile } from './run.js';
 
 interface SpectrumCliOptions {
   json?: boolean;
@@ -63,6 +65,30 @@ Safety:
   ${LASER_CAUTION}
 `;
 
+/**
+ * The dark frame is subtracted from every input: checked once, before any input is measured, that it is a readable
+ * file and not empty or text, so a batch fails with one message naming it rather than every input failing with the
+ * same error. (Decoding it, and whether it matches each photo's size and settings, is for the measurement.)
+ */
+async function checkDarkFrame(file: string): Promise<void> {
+  await requireReadableFile(file, '--dark');
+  const handle = await fs.open(file, 'r');
+  let head: Uint8Array;
+  try {
+    const buffer = Buffer.alloc(4096);
+    const { bytesRead } = await handle.read(buffer, 0, buffer.length, 0);
+    head = buffer.subarray(0, bytesRead);
+  } finally {
+    await handle.close();
+  }
+  // An empty file or text (a CSV given by mistake) is refused here; other bytes are left to the image decoder, which
+  // names the format it found.
+  if (head.length === 0 || sniffKind(head) === 'text') {
+    const what = head.length === 0 ? 'is empty' : 'contains text, not image data';
+    throw new InputError(`--dark ${file}: ${what}; expected a photo (JPEG, PNG, TIFF or WebP) taken with the light blocked`, file);
+  }
+}
+
 export function registerSpectrum(program: Command): void {
   program
     .command('spectrum')
@@ -98,6 +124,7 @@ export function registerSpectrum(program: Command): void {
         if (opts.csv && opts.svg && path.resolve(opts.csv) === path.resolve(opts.svg)) {
           throw new InputError(`${opts.csv}: --csv and --svg name the same file`, opts.csv);
         }
+        if (opts.dark !== undefined) await checkDarkFrame(opts.dark);
         const calibration = opts.calibration ? { profile: await readProfile(opts.calibration), file: opts.calibration } : undefined;
         if (several || opts.summary || opts.report) {
           // A batch (src/tasks/batch): worker threads, one result per input, a failing file reported and the rest go on.
