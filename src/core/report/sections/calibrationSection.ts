@@ -49,6 +49,13 @@ export function calibrationSection(json: unknown, options: SectionOptions): Resu
   figures.push(['Model', modelText]);
   figures.push(['RMS of the residuals', `${plain(rmsNm, 'nm', 3)}${rmsPx !== undefined ? ` (${plain(rmsPx, 'px', 3)})` : ''}`]);
   figures.push(['Range covered by the lines', `${lo.toFixed(2)}–${hi.toFixed(2)} nm (beyond it the scale extrapolates; its uncertainty grows)`]);
+  // Results from before these keys existed simply lack them.
+  if (r.has('scale_uncertainty_nm')) {
+    const [uLo, uHi] = r.numbers('scale_uncertainty_nm');
+    figures.push(['Uncertainty of the scale inside the range (1σ)', `${plain(uLo, 'nm', 2)} to ${plain(uHi, 'nm', 2)}`]);
+  }
+  const predictionNm = r.optNum('prediction_rms_nm');
+  if (predictionNm !== undefined) figures.push(['Each line predicted by the fit of the others (RMS)', plain(predictionNm, 'nm', 2)]);
   figures.push(['Dispersion at mid-range', `${plain(Math.abs(dispersion), 'nm/px', 4)}${dispersion < 0 ? ' (wavelength falls along the band)' : ''}`]);
   if (lpmm !== undefined) figures.push(['Grating line density (from the model)', withU(lpmm, lpmmU, 'lines/mm')]);
   const profile = r.optStr('profile_file') ?? r.optStr('profile') ?? r.optStr('out');

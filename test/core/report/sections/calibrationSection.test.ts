@@ -45,6 +45,18 @@ describe('calibrationSection(json, {document})', () => {
     expect(plainText(section.verdict)).toBe('Wavelength scale: grating + camera (physical model), RMS 0.04 nm over 404.7–579.1 nm (4 of 5 lines)');
     expect(figure(section.figures, /^Grating line density/)).toBe('999.2 ± 1.3 lines/mm');
     expect(summary).toMatchObject({ item: 'cfl.jpg', measurement: 'Wavelength calibration' });
+    // Without the scale-uncertainty keys (results of earlier versions) their figures are left out.
+    expect(section.figures!.some(([k]) => /^Uncertainty of the scale|^Each line predicted/.test(k))).toBe(false);
+  });
+
+  it('states the uncertainty of the scale inside the range and the leave-one-out prediction RMS', () => {
+    const json = { ...fluorescent(), scale_uncertainty_nm: [0.0213, 0.0724], prediction_rms_nm: 0.2 };
+    expect(validate(json)).toBe(true);
+    const { section } = calibrationSection(json, { document });
+    expect(figure(section.figures, /^Uncertainty of the scale inside the range/)).toBe('0.021 nm to 0.072 nm');
+    expect(figure(section.figures, /^Each line predicted by the fit of the others/)).toBe('0.2 nm');
+    const none = calibrationSection({ ...fluorescent(), scale_uncertainty_nm: [0.02, 0.07], prediction_rms_nm: null }, { document });
+    expect(none.section.figures!.some(([k]) => /^Each line predicted/.test(k))).toBe(false);
   });
 
   it('plots every line’s residual with ±RMS levels, scaled to the lines used: the far outlier pinned to the edge with its value', () => {
