@@ -25,6 +25,8 @@ Models (--model): poly — polynomial of degree 1–4, chosen by AICc (or --degr
 grating and camera, λ = (d/m)(sin θi + sin(θc + atan((x − x0)/f))), which also gives the grating's lines/mm; auto
 (default) — the grating model unless a polynomial fits clearly better. The focal length f comes from the photo's
 EXIF 35-mm-equivalent focal length (f_px = f35 · image diagonal / 43.27 mm, ±2 %), from --focal-px, or is fitted.
+A spectrum CSV from "glowprint spectrum --csv" keeps the photo's size, band, focal length and zero order, and is
+calibrated as the photo would be; a CSV from elsewhere knows none of them (give --focal-px if you know f).
 
 Wavelengths are in standard air (the NIST convention for 200–2000 nm); --vacuum reports vacuum wavelengths
 (Ciddor 1996). The profile file itself always holds air wavelengths.

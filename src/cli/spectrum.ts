@@ -7,7 +7,7 @@ import { DECODE_IMAGE_DEFAULTS } from '../io/image.js';
 import { readProfile } from '../io/profileFile.js';
 import { sniffKind } from '../io/sniff.js';
 import { writeFileAtomic } from '../io/writeAtomic.js';
-import { analyseSpectrumInput, formatSpectrumTable, parseBandOption, spectrumSvg, spectrumToCsv } from '../tasks/spectrum.js';
+import { analyseSpectrumInput, formatSpectrumTable, parseBandOption, photoGeometryOf, spectrumSvg, spectrumToCsv } from '../tasks/spectrum.js';
 import { batchOutput } from '../tasks/batch/batchOutput.js';
 import { batchProgress } from '../tasks/batch/progress.js';
 import { perInputName } from '../tasks/batch/perInputName.js';
@@ -49,8 +49,10 @@ standard air (the NIST convention); --vacuum converts them (Ciddor 1996).
   glowprint spectrum tube.jpg --calibration rig.json --json
 
 Outputs: a table on stdout (or one JSON object with --json), warnings on stderr; --csv writes the spectrum
-(position_px,intensity,r,g,b,saturated), --svg a plot with the peaks marked. Existing files are replaced
-atomically; an input file is never overwritten.
+(position_px,intensity,r,g,b,saturated) after a "# photo_geometry:" comment line that keeps the photo's size, band,
+EXIF focal length and zero order, so "glowprint calibrate spectrum.csv" knows what it would from the photo (and a
+"# wavelength_nm:" line saying air or vacuum when wavelengths are added); --svg a plot with the peaks marked.
+Existing files are replaced atomically; an input file is never overwritten.
 
 Batch (several inputs, e.g. photos/*.jpg): one result each, in the order given (--json prints {"results": [...],
 "warnings": [...]}), measured by worker threads across the cores (--workers N; 1 runs them one after another), with
@@ -138,9 +140,10 @@ export function registerSpectrum(program: Command): void {
           if (batch.failed > 0) process.exitCode = 1;
           return;
         }
-        const { analysis, spectrum } = await analyseSpectrumInput(input, { dark: opts.dark, band, maxPixels, transfer: opts.transfer, calibration, vacuum: opts.vacuum });
+        const run = await analyseSpectrumInput(input, { dark: opts.dark, band, maxPixels, transfer: opts.transfer, calibration, vacuum: opts.vacuum });
+        const { analysis, spectrum } = run;
         // Outputs are written only once everything has been measured: a bad input leaves no half-written files.
-        if (opts.csv) await writeFileAtomic(opts.csv, spectrumToCsv(spectrum), { inputs });
+        if (opts.csv) await writeFileAtomic(opts.csv, spectrumToCsv(spectrum, photoGeometryOf(run), analysis.calibration?.medium), { inputs });
         if (opts.svg) await writeFileAtomic(opts.svg, spectrumSvg({ analysis, spectrum }), { inputs });
         if (opts.json) printJson({ command: 'spectrum', ...analysis });
         else process.stdout.write(formatSpectrumTable(analysis));

@@ -14,12 +14,12 @@ import { dispersionAtNmPerPx, wavelengthAtNm } from '../core/calibration/model.j
 import { buildProfile, type InstrumentProfile } from '../core/calibration/profile.js';
 import { InputError, parseNumberOption } from '../core/errors.js';
 import { lampLines, type LampLines } from '../core/lines/index.js';
-import type { BandGeometry, Peak } from '../core/types.js';
+import type { Peak } from '../core/types.js';
 import { airToVacuumNm } from '../core/units/airVacuum.js';
 import { lampLinesFor, loadLampCatalog } from '../io/lineList.js';
 import { writeProfile } from '../io/profileFile.js';
 import { packageVersion } from '../io/projectRoot.js';
-import { analyseSpectrumInput, parseBandOption } from './spectrum.js';
+import { analyseSpectrumInput, parseBandOption, photoGeometryOf } from './spectrum.js';
 
 /** The options of `glowprint calibrate`, as text the way the command (or an API form) gives them. */
 export interface CalibrateOptions {
@@ -299,10 +299,6 @@ export function formatCalibrateReport(r: CalibrateReport): string {
   return out.join('\n') + '\n';
 }
 
-function stripBand(b: BandGeometry): BandGeometry {
-  return { angleDeg: b.angleDeg, slantDeg: b.slantDeg, center: { x: b.center.x, y: b.center.y }, lengthPx: b.lengthPx, heightPx: b.heightPx };
-}
-
 /** The whole command without printing: input → peaks → calibration → report (+ profile). */
 export async function runCalibrate(input: string, opts: CalibrateOptions): Promise<{ report: CalibrateReport; profile: InstrumentProfile }> {
   if (!opts.lamp && !opts.pairs) throw new InputError('nothing to calibrate with: give --lamp (e.g. --lamp Hg), --pairs, or both', '--lamp');
@@ -325,18 +321,21 @@ export async function runCalibrate(input: string, opts: CalibrateOptions): Promi
   const lamp = opts.lamp ? calibrationLines(opts.lamp) : null;
 
   const band = opts.band === undefined ? undefined : parseBandOption(opts.band);
-  const { analysis, spectrum } = await analyseSpectrumInput(input, { dark: opts.dark, band, maxPixels });
+  const run = await analyseSpectrumInput(input, { dark: opts.dark, band, maxPixels });
+  const { analysis, spectrum } = run;
   checkPairsInside(pairs, spectrum.positionPx, input, analysis.input.kind === 'photo');
   if (analysis.input.kind === 'csv' && analysis.input.axis === 'wavelength') {
     throw new InputError(`${input}: this spectrum already has a wavelength axis; calibration needs positions in pixels`, input);
   }
   const photo = analysis.input.kind === 'photo';
-  const image = photo && analysis.input.widthPx && analysis.input.heightPx ? { widthPx: analysis.input.widthPx, heightPx: analysis.input.heightPx } : null;
-  const bandGeometry = analysis.band ? stripBand(analysis.band) : null;
-  const priors = gratingPriors({ image, band: bandGeometry, focalLength35mmMm: analysis.input.exif?.focalLength35mmMm, focalLengthPx });
+  // A photo's geometry, or what a CSV written from one by glowprint spectrum --csv keeps of it: the same priors then.
+  const geometry = photoGeometryOf(run);
+  const image = geometry ? { widthPx: geometry.widthPx, heightPx: geometry.heightPx } : null;
+  const bandGeometry = geometry ? geometry.band : null;
+  const priors = gratingPriors({ image, band: bandGeometry, focalLength35mmMm: geometry?.focalLength35mmMm, focalLengthPx });
   const modelChoice = opts.model === 'poly' ? 'polynomial' : opts.model;
   // A zero order in the photo is the 0 nm point of a first-order scale: evidence for the scale that puts it there.
-  const zeroOrder = order === 1 ? zeroOrderSighting(analysis.band?.zeroOrderPx) : null;
+  const zeroOrder = order === 1 ? zeroOrderSighting(geometry?.zeroOrderPx) : null;
   let result: CalibrationResult;
   try {
     result = calibrateFromPeaks(analysis.peaks, lamp ? lamp.lines : null, {

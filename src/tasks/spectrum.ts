@@ -14,6 +14,7 @@ import { type CoarseSearch, FIND_BAND_DEFAULTS, type FoundBand, findBand, previe
 import { type ExtractSpectrumOptions, extractSpectrum } from '../core/spectrum/extract.js';
 import { findPeaksDetailed, peaksToWavelength } from '../core/spectrum/peaks/index.js';
 import { plotSpectrumSvg } from '../core/spectrum/plotSpectrum.js';
+import { type PhotoGeometry, parsePhotoGeometry, photoGeometryComment } from '../core/spectrum/photoGeometry.js';
 import type { BandGeometry, Peak, Spectrum } from '../core/types.js';
 import { airToVacuumNm } from '../core/units/airVacuum.js';
 import { type DecodedImage, decodeImageStaged, type ExifSummary, narrowRowWindow, type StagedDecode } from '../io/image.js';
@@ -104,6 +105,26 @@ export type SpectrumStage = 'preview' | 'coarse' | 'rows' | 'rows-missed' | 'dec
 export interface SpectrumRun {
   analysis: SpectrumAnalysis;
   spectrum: Spectrum;
+  /** CSV input: the geometry of the photo it was written from, when the file keeps it (see photoGeometry.ts). */
+  photoGeometry?: PhotoGeometry | null;
+}
+
+/**
+ * The photo geometry behind a spectrum: a photo's own (size, band, EXIF focal length, zero order), or what a CSV
+ * written from one keeps of it; null when unknown.
+ */
+export function photoGeometryOf(run: SpectrumRun): PhotoGeometry | null {
+  const { input, band } = run.analysis;
+  if (input.kind === 'csv') return run.photoGeometry ?? null;
+  if (!band || !input.widthPx || !input.heightPx) return null;
+  return {
+    sourceFile: path.basename(input.file),
+    widthPx: input.widthPx,
+    heightPx: input.heightPx,
+    ...(input.exif?.focalLength35mmMm ? { focalLength35mmMm: input.exif.focalLength35mmMm } : {}),
+    band: { center: { x: band.center.x, y: band.center.y }, angleDeg: band.angleDeg, slantDeg: band.slantDeg, lengthPx: band.lengthPx, heightPx: band.heightPx },
+    ...(band.zeroOrderPx !== undefined && Number.isFinite(band.zeroOrderPx) ? { zeroOrderPx: band.zeroOrderPx } : {}),
+  };
 }
 
 /**
@@ -256,14 +277,16 @@ async function analyseCsv(file: string): Promise<SpectrumRun> {
   const spectrum = table.spectrum;
   const search = findPeaksDetailed(spectrum);
   const peaks = spectrum.wavelengthNm ? peaksToWavelength(search.peaks, spectrum) : search.peaks;
+  const kept = parsePhotoGeometry(table.metadata, file);
   return {
     spectrum,
+    photoGeometry: kept.geometry,
     analysis: {
       input: { file, kind: 'csv', axis: table.axis },
       band: null,
       spectrum: summarise(spectrum, search.noise, search.threshold),
       peaks,
-      warnings: [...table.warnings, ...search.warnings],
+      warnings: [...table.warnings, ...kept.warnings, ...search.warnings],
     },
   };
 }
@@ -449,12 +472,19 @@ function checkBandInside(band: BandGeometry, widthPx: number, heightPx: number):
   return outside ? ['the manual band reaches beyond the photo; samples outside it are missing from the spectrum'] : [];
 }
 
-/** The spectrum as CSV: one row per sample (`position_px,intensity,r,g,b,saturated`, then `wavelength_nm` if known). */
-export function spectrumToCsv(spectrum: Spectrum): string {
+/**
+ * The spectrum as CSV: one row per sample (`position_px,intensity,r,g,b,saturated`, then `wavelength_nm` if known),
+ * after a comment line with the photo's geometry when known (a calibration from the CSV then knows what one from the
+ * photo knows) and one saying whether the wavelengths are in standard air or vacuum.
+ */
+export function spectrumToCsv(spectrum: Spectrum, geometry: PhotoGeometry | null = null, medium: 'air' | 'vacuum' = 'air'): string {
   const n = spectrum.intensity.length;
   const wl = spectrum.wavelengthNm;
   const ch = spectrum.channels;
-  const lines = [`position_px,intensity,r,g,b,saturated${wl ? ',wavelength_nm' : ''}`];
+  const lines: string[] = [];
+  if (geometry) lines.push(photoGeometryComment(geometry));
+  if (wl) lines.push(`# wavelength_nm: ${medium === 'vacuum' ? 'vacuum wavelengths' : 'wavelengths in standard air (the NIST convention)'}`);
+  lines.push(`position_px,intensity,r,g,b,saturated${wl ? ',wavelength_nm' : ''}`);
   const num = (v: number | undefined): string => (v === undefined || !Number.isFinite(v) ? '' : String(Number(v.toPrecision(7))));
   for (let i = 0; i < n; i++) {
     const row = [

@@ -168,6 +168,21 @@ describe('glowprint calibrate <photo> --lamp fluorescent (the demo rig: 1000 lin
     }
   });
 
+  it('calibrates the spectrum CSV written from the photo as it does the photo (the CSV keeps the photo geometry)', () => {
+    // Without the photo's focal length, image centre and zero order, the matching of the 1-D spectrum had once fallen
+    // just short (false-match bound 6e-3 against 5e-3) and declined the right lamp.
+    const csv = at('cfl-spectrum.csv');
+    expect(runCli(['spectrum', CFL, '--csv', csv]).status).toBe(0);
+    const r = runCli(['calibrate', csv, '--lamp', 'fluorescent', '--json']);
+    expect(r.status, r.stderr).toBe(0);
+    const j = JSON.parse(r.stdout) as { lines_per_mm: number; lines_per_mm_uncertainty: number; rms_nm: number; model: { focal_length_source: string }; match: { zero_order: { counted: boolean } } };
+    expect(j.model.focal_length_source).toBe('exif');
+    expect(j.match.zero_order.counted).toBe(true);
+    expect(Math.abs(j.lines_per_mm - (out.lines_per_mm as number))).toBeLessThanOrEqual(j.lines_per_mm_uncertainty);
+    expect(Math.abs(j.lines_per_mm - truth.rig.lines_per_mm)).toBeLessThanOrEqual(2 * j.lines_per_mm_uncertainty);
+    expect(j.rms_nm).toBeLessThanOrEqual(0.05);
+  });
+
   it('reports vacuum wavelengths with --vacuum (standard-air conversion, Ciddor 1996)', () => {
     const r = runCli(['calibrate', CFL, '--lamp', 'fluorescent', '--json', '--vacuum']);
     expect(r.status).toBe(0);

@@ -169,7 +169,10 @@ describe('glowprint spectrum <photo>', () => {
     expect(r.status).toBe(0);
     expect(r.stdout).toMatch(/band \(found\): angle -?\d+\.\d\d°( ± \d+\.\d\d°)?, slant -?\d+\.\d\d°( ± \d+\.\d\d°)?, centre \(\d+\.\d, \d+\.\d\) px, length \d+ px, height \d+ px/);
     expect(r.stdout).toMatch(/saturated/);
-    const lines = readFileSync(csv, 'utf8').trim().split('\n');
+    const all = readFileSync(csv, 'utf8').trim().split('\n');
+    // One comment line keeps the photo's geometry (for a calibration from the CSV), then the table.
+    expect(all[0]).toMatch(/^# photo_geometry: \{"source_file":"[^"]+","width_px":\d+,"height_px":\d+/);
+    const lines = all.slice(1);
     expect(lines[0]).toBe('position_px,intensity,r,g,b,saturated');
     expect(lines[1].split(',').length).toBe(6);
     expect(lines.some((l) => l.endsWith(',1'))).toBe(true); // the clipped line's samples

@@ -140,7 +140,11 @@ describe('glowprint spectrum <photo> --calibration profile.json', () => {
     expect(r.stdout).toMatch(/wavelengths \(air\) from .*rig\.json: fluorescent lamp/);
     expect(r.stdout).toMatch(/wavelength \(nm\)/);
     expect(r.stdout).toMatch(/\d{3}\.\d{3} ± 0\.\d{3}/);
-    const rows = readFileSync(csv, 'utf8').trim().split('\n');
+    const all = readFileSync(csv, 'utf8').trim().split('\n');
+    // Comment lines first: the photo's geometry, and the medium of the wavelengths (standard air unless --vacuum).
+    expect(all[0]).toMatch(/^# photo_geometry: /);
+    expect(all[1]).toBe('# wavelength_nm: wavelengths in standard air (the NIST convention)');
+    const rows = all.slice(2);
     expect(rows[0].split(',')).toContain('wavelength_nm');
     const col = rows[0].split(',').indexOf('wavelength_nm');
     const wl = rows.slice(1).map((row) => Number(row.split(',')[col]));
@@ -148,6 +152,9 @@ describe('glowprint spectrum <photo> --calibration profile.json', () => {
     expect(Math.min(...wl)).toBeLessThan(480);
     expect(Math.max(...wl)).toBeGreaterThan(690);
     expect(readFileSync(svg, 'utf8')).toContain('wavelength (nm)');
+    const vac = at('tube-a-vacuum.csv');
+    expect(runCli(['spectrum', path.join(DEMO, 'tube-a.jpg'), '--calibration', PROFILE, '--vacuum', '--csv', vac]).status).toBe(0);
+    expect(readFileSync(vac, 'utf8').split('\n')[1]).toBe('# wavelength_nm: vacuum wavelengths');
   });
 });
 

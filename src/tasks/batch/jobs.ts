@@ -7,7 +7,7 @@ import type { InstrumentProfile } from '../../core/calibration/profile.js';
 import type { ListedLine } from '../../core/lines/index.js';
 import { writeFileAtomic } from '../../io/writeAtomic.js';
 import { formatIdentification, identificationJson, identificationSvg, identifyFile } from '../identify.js';
-import { analyseSpectrumInput, formatSpectrumTable, spectrumSvg, spectrumToCsv, type AnalyseSpectrumOptions } from '../spectrum.js';
+import { analyseSpectrumInput, formatSpectrumTable, photoGeometryOf, spectrumSvg, spectrumToCsv, type AnalyseSpectrumOptions } from '../spectrum.js';
 import { perInputName } from './perInputName.js';
 
 /** `glowprint identify` on each file: the profile and line list are read once, in the main thread. */
@@ -55,7 +55,7 @@ export async function runJob(job: BatchJob, file: string): Promise<JobResult> {
       const { command: _command, csv, svg, several, readFiles, ...options } = job;
       const run = await analyseSpectrumInput(file, options);
       // Outputs only once the file has been measured: a bad input leaves no half-written files.
-      if (csv) await writeFileAtomic(perInputName(csv, file, several), spectrumToCsv(run.spectrum), { inputs: readFiles });
+      if (csv) await writeFileAtomic(perInputName(csv, file, several), spectrumToCsv(run.spectrum, photoGeometryOf(run), run.analysis.calibration?.medium), { inputs: readFiles });
       if (svg) await writeFileAtomic(perInputName(svg, file, several), spectrumSvg(run), { inputs: readFiles });
       return { json: { command: 'spectrum', ...run.analysis }, text: formatSpectrumTable(run.analysis), warnings: run.analysis.warnings };
     }
