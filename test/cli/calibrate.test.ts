@@ -237,6 +237,19 @@ describe('glowprint calibrate: bad input gets one clear message, exit 1, nothing
     expect((JSON.parse(ok.stdout) as { lines: unknown[] }).lines.length).toBeGreaterThan(4);
   });
 
+  it('two swapped pairs are an error naming the one whose peak has the wrong colour, and nothing is written', () => {
+    // Hg I 404.656 nm is violet-blue and 690.746 nm deep red (NIST ASD wavelengths; colours common practice, no
+    // source); swapped, the blue peak is named 690.746 nm.
+    const alone = JSON.parse(runCli(['calibrate', CFL, '--lamp', 'Hg', '--json']).stdout) as { lines: Array<{ position_px: number; wavelength_nm: number }> };
+    const pos = (w: number) => alone.lines.find((l) => Math.abs(l.wavelength_nm - w) < 0.01)!.position_px.toFixed(2);
+    const out = at('swapped.json');
+    const r = runCli(['calibrate', CFL, '--pairs', `${pos(404.656)}=690.746,${pos(690.746)}=404.656`, '--out', out]);
+    expect(r.status).toBe(1);
+    expect(r.stderr.trim().split('\n')).toHaveLength(1);
+    expect(r.stderr).toMatch(new RegExp(`--pairs ${Number(pos(404.656))}=690.746: the peak at [\\d.]+ px is blue \\(R \\d+ %, G \\d+ %, B \\d+ % of its signal\\), which puts it below \\d+ nm, not 690.746 nm`));
+    expect(existsSync(out)).toBe(false);
+  });
+
   it('a wrong --direction is named as the mistake, not the lamp', () => {
     // The demo rig's wavelength grows along the band (as its calibration says); told the opposite, the matching finds nothing, but
     // the other direction matches: the message names --direction.

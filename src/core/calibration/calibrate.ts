@@ -10,6 +10,7 @@ import {
   type FitDispersionOptions,
 } from './fitDispersion.js';
 import type { GratingFitOptions, ParameterPrior } from './gratingModel.js';
+import { colourAllows, colourBandNm } from './colourPrior.js';
 import { isBroadFeature, type LampLineInfo, referenceUncertaintyNm } from './lineReference.js';
 import { matchLines, type ManualPair, type MatchLinesOptions, type MatchResult, type ZeroOrderSighting } from './matchLines.js';
 import { dispersionAtNmPerPx, wavelengthAtNm } from './model.js';
@@ -146,6 +147,7 @@ export function calibrateFromPeaks(
   options: Partial<CalibrateOptions> = {},
 ): CalibrationResult {
   const o: CalibrateOptions = { ...CALIBRATE_DEFAULTS, ...options };
+  checkPairColours(peaks, o);
   const warnings: string[] = [];
   let points: CalibrationPoint[];
   let match: MatchResult | null = null;
@@ -264,6 +266,35 @@ export function calibrateFromPeaks(
   const fit = fitDispersion(points, o.fit);
   warnings.push(...fit.warnings);
   return { fit, match, points, warnings };
+}
+
+/**
+ * A pair whose peak has a colour no camera gives its wavelength (a red peak named 435.8 nm: two pairs swapped, a line
+ * misread) is an error naming it, before it can be fitted into a scale nothing else would check. Saturated peaks are
+ * not judged (clipped channels whiten them); see colourPrior.ts for the rules.
+ */
+function checkPairColours(peaks: readonly Peak[], o: CalibrateOptions): void {
+  for (const pair of o.pairs) {
+    let best: Peak | undefined;
+    for (const p of peaks) {
+      const d = Math.abs(p.positionPx - pair.positionPx);
+      if (d <= o.snapPx && (!best || d < Math.abs(best.positionPx - pair.positionPx))) best = p;
+    }
+    if (!best || best.saturated || !best.rgb) continue;
+    const band = colourBandNm(best.rgb);
+    if (colourAllows(band, pair.wavelengthNm)) continue;
+    const { r, g, b } = best.rgb;
+    const sum = r + g + b;
+    const share = (v: number) => Math.round((100 * v) / sum);
+    const hue = band![1] <= 530 ? 'blue' : band![0] >= 560 ? 'red' : 'green';
+    throw new InputError(
+      `--pairs ${pair.positionPx}=${pair.wavelengthNm}: the peak at ${best.positionPx.toFixed(1)} px is ${hue} ` +
+        `(R ${share(r)} %, G ${share(g)} %, B ${share(b)} % of its signal), which puts it ` +
+        `${!Number.isFinite(band![1]) ? `above ${band![0]}` : band![0] > 0 ? `at ${band![0]}–${band![1]}` : `below ${band![1]}`} nm, ` +
+        `not ${pair.wavelengthNm} nm; check the pair (two swapped, or another line)`,
+      'pairs',
+    );
+  }
 }
 
 /**

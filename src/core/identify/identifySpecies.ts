@@ -1,3 +1,4 @@
+import { colourAllows, colourBandNm } from '../calibration/colourPrior.js';
 import { assertFinite, invalid } from '../errors.js';
 import { normalCdf } from '../render/lineSpread.js';
 import type { Peak, SpectralLine } from '../types.js';
@@ -577,19 +578,18 @@ export function identifySpecies(peaks: readonly CalibratedPeak[], options: Ident
 }
 
 /**
- * Beyond this first-order reading (nm) a peak recorded as blue — more than half its signal in the blue channel — is
- * second-order light: light beyond the red reaches a colour sensor, if at all, through its red filter or all three
- * alike, never mostly the blue (common practice, no source), while an order-2 image of a 350–470 nm line is blue and
- * lands at 700–940 nm on a first-order scale.
+ * Beyond this first-order reading (nm) a peak whose colour rules its reading out but allows half of it is
+ * second-order light (colourPrior.ts: a mostly blue peak lies short of 500–530 nm; light beyond the red reaches a
+ * colour sensor, if at all, through its red filter or all three alike, never mostly the blue), as the order-2 image
+ * of a 350–470 nm line is: blue, at 700–940 nm on a first-order scale.
  */
 export const SECOND_ORDER_COLOUR_MIN_NM = 700;
 
-/** See SECOND_ORDER_COLOUR_MIN_NM. Peaks without colour (a spectrum CSV of one channel) are never flagged. */
+/** See SECOND_ORDER_COLOUR_MIN_NM. Peaks without colour (a spectrum CSV of one channel) and saturated ones are never flagged. */
 export function secondOrderByColour(p: CalibratedPeak): boolean {
-  if (!p.rgb || !(p.wavelengthNm > SECOND_ORDER_COLOUR_MIN_NM)) return false;
-  const { r, g, b } = p.rgb;
-  const sum = r + g + b;
-  return sum > 0 && b / sum > 0.5;
+  if (!p.rgb || p.saturated || !(p.wavelengthNm > SECOND_ORDER_COLOUR_MIN_NM)) return false;
+  const band = colourBandNm(p.rgb);
+  return band !== null && !colourAllows(band, p.wavelengthNm) && colourAllows(band, p.wavelengthNm / 2);
 }
 
 /**
