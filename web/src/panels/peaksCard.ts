@@ -63,7 +63,7 @@ export class PeaksCard {
         h('td', { class: 'num' }, p.fwhmPx.toFixed(2)),
         h('td', { class: 'num' }, p.snr >= 100 ? p.snr.toFixed(0) : p.snr.toFixed(1)),
         h('td', {}, [p.saturated ? 'clipped' : '', p.blended ? 'blended' : ''].filter(Boolean).join(' ')),
-        h('td', {}, line ? `${line.spectrum} ${line.wavelengthNm.toFixed(3)}` : ''),
+        h('td', {}, line ? `${line.spectrum} ${line.wavelengthNm.toFixed(3)}${line.order ? ` (order ${line.order})` : ''}` : ''),
       );
       row.addEventListener('click', () => this.session.pick(i));
       row.addEventListener('keydown', (e) => {

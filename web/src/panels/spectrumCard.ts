@@ -110,7 +110,7 @@ export class SpectrumCard {
     const speciesColour = speciesColours(ident?.identification);
     const labels = new Map<number, { label: string; element: string }>();
     for (const p of ident?.identification.peaks ?? []) {
-      if (p.line) labels.set(p.positionPx, { label: `${p.line.spectrum} ${p.line.wavelengthNm.toFixed(2)}`, element: p.line.element });
+      if (p.line) labels.set(p.positionPx, { label: `${p.line.spectrum} ${p.line.wavelengthNm.toFixed(2)}${p.line.order ? ` (order ${p.line.order})` : ''}`, element: p.line.element });
     }
     const peaks: ViewPeak[] = cap.peaks.map((p, i) => {
       const l = labels.get(p.positionPx);
