@@ -191,11 +191,7 @@ export function calibrateFromPeaks(
       match = null;
     }
     points = o.pairs.map((pair) => {
-      let best = -1;
-      for (let i = 0; i < peaks.length; i++) {
-        const d = Math.abs(peaks[i].positionPx - pair.positionPx);
-        if (d <= o.snapPx && (best < 0 || d < Math.abs(peaks[best].positionPx - pair.positionPx))) best = i;
-      }
+      const best = nearestPeakIndex(peaks, pair.positionPx, o.snapPx);
       const peak = best >= 0 ? peaks[best] : undefined;
       if (!peak && peaks.length > 0) {
         warnings.push(`no peak within ${o.snapPx} px of the pair at ${pair.positionPx} px: the position is used as given (±0.5 px)`);
@@ -268,6 +264,16 @@ export function calibrateFromPeaks(
   return { fit, match, points, warnings };
 }
 
+/** Index of the peak nearest to positionPx within snapPx, or −1. */
+function nearestPeakIndex(peaks: readonly Peak[], positionPx: number, snapPx: number): number {
+  let best = -1;
+  for (let i = 0; i < peaks.length; i++) {
+    const d = Math.abs(peaks[i].positionPx - positionPx);
+    if (d <= snapPx && (best < 0 || d < Math.abs(peaks[best].positionPx - positionPx))) best = i;
+  }
+  return best;
+}
+
 /**
  * A pair whose peak has a colour no camera gives its wavelength (a red peak named 435.8 nm: two pairs swapped, a line
  * misread) is an error naming it, before it can be fitted into a scale nothing else would check. Saturated peaks are
@@ -275,11 +281,8 @@ export function calibrateFromPeaks(
  */
 function checkPairColours(peaks: readonly Peak[], o: CalibrateOptions): void {
   for (const pair of o.pairs) {
-    let best: Peak | undefined;
-    for (const p of peaks) {
-      const d = Math.abs(p.positionPx - pair.positionPx);
-      if (d <= o.snapPx && (!best || d < Math.abs(best.positionPx - pair.positionPx))) best = p;
-    }
+    const index = nearestPeakIndex(peaks, pair.positionPx, o.snapPx);
+    const best = index >= 0 ? peaks[index] : undefined;
     if (!best || best.saturated || !best.rgb) continue;
     const band = colourBandNm(best.rgb);
     if (colourAllows(band, pair.wavelengthNm)) continue;

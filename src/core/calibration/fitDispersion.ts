@@ -219,7 +219,7 @@ export function fitDispersion(points: readonly CalibrationPoint[], options: Part
   const eligible = work.filter((w) => w.used);
 
   // Weights 1/σλ² with σλ = σx·|dλ/dx| from a first straight line through the used lines.
-  const rough = fitPolynomial(toPoints(work.filter((w) => w.used)), 1);
+  const rough = fitPolynomial(toPoints(eligible), 1);
   if (!rough) throw new InputError('the calibration lines do not determine a scale (coincident positions)', 'lines');
   const roughDispersion = (x: number) => Math.abs(dispersionAtNmPerPx(rough.model, x));
   if (!(roughDispersion(work[0].point.positionPx) > 0)) {
