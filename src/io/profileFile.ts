@@ -10,8 +10,9 @@ import { writeFileAtomic } from './writeAtomic.js';
 /**
  * Instrument profile files (format `glowprint-instrument-profile`, version 1): read with a JSON parse that names the
  * line and column of a syntax error, the JSON Schema in data/schema/instrument-profile.schema.json (draft 2020-12,
- * checked with Ajv; the model's fields are judged by the kind it declares), then the core's semantic checks (matrix sizes, symmetric covariances); written atomically after the same
- * schema check, so no half-written or invalid profile ever replaces a good one.
+ * checked with Ajv; the model's fields are judged by the kind it declares), then the core's semantic checks (matrix
+ * sizes, symmetric covariances); written atomically after the same schema check, so no half-written or invalid
+ * profile ever replaces a good one.
  */
 
 let validator: ReturnType<Ajv2020['compile']> | undefined;
