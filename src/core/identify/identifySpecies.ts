@@ -2,7 +2,7 @@ import { colourAllows, colourBandNm } from '../calibration/colourPrior.js';
 import { assertFinite, invalid } from '../errors.js';
 import { normalCdf } from '../render/lineSpread.js';
 import type { Peak, SpectralLine } from '../types.js';
-import { buildSpeciesTemplates, compareText, TEMPLATE_DEFAULTS, type SpeciesTemplate, type TemplateOptions } from './speciesTemplates.js';
+import { buildSpeciesTemplates, compareText, TEMPLATE_DEFAULTS, type SpeciesTemplate, type TemplateFeature, type TemplateOptions } from './speciesTemplates.js';
 import { fitMixture, matchTemplate, type MixtureFit, type TemplateMatch } from './templateMatch.js';
 
 /** A peak with a calibrated wavelength (the identification works on the wavelength scale). */
@@ -619,7 +619,7 @@ function labelSecondOrder(
         const f = template.features[table.feature[j]];
         const tol = matchSigma * Math.sqrt((sigma[i] / 2) ** 2 + f.spreadSigmaNm ** 2 + sigma[j] ** 2);
         if (Math.abs(half - first.wavelengthNm) > tol) continue;
-        identified[i] = { ...p, line: { ...first.line, order: 2 }, matchSigma: Math.abs(half - first.wavelengthNm) / tol * matchSigma, confidence: 1 };
+        identified[i] = { ...p, line: secondOrderLine(first.line, f, half, p.fwhmNm), matchSigma: Math.abs(half - first.wavelengthNm) / tol * matchSigma, confidence: 1 };
         return;
       }
     }
@@ -645,6 +645,23 @@ function labelSecondOrder(
       }
     }
   });
+}
+
+/**
+ * The line a second-order image at `halfNm` (half its first-order reading) shows of the first-order feature it
+ * doubles. In order 2 the lines stand twice as far apart on the scale while the image is as wide as any, so a blend
+ * of first order may be resolved there: the member line nearest half the reading is named, blended only with the
+ * members closer to it than the image's width in first-order wavelength (half its width on the scale). Without a
+ * width the first order's blend is kept.
+ */
+function secondOrderLine(first: MatchedLine, feature: TemplateFeature, halfNm: number, fwhmNm: number | undefined): MatchedLine {
+  if (!(fwhmNm !== undefined && fwhmNm > 0) || feature.lines.length < 2) return { ...first, order: 2 };
+  const nearest = [...feature.lines].sort((a, b) => Math.abs(a.wavelengthNm - halfNm) - Math.abs(b.wavelengthNm - halfNm))[0];
+  const others = feature.lines.filter((l) => l !== nearest && Math.abs(l.wavelengthNm - nearest.wavelengthNm) < fwhmNm / 2).map((l) => l.wavelengthNm);
+  const line: MatchedLine = { element: first.element, spectrum: nearest.spectrum, wavelengthNm: nearest.wavelengthNm, order: 2 };
+  if (others.length) line.blendedWithNm = others.sort((a, b) => a - b);
+  if (first.molecular) line.molecular = true;
+  return line;
 }
 
 /** A species no peak comes near: no evidence either way (or, with no emission lines at all, nothing to score). */

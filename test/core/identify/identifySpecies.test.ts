@@ -155,6 +155,28 @@ describe('identifySpecies: what else is in it', () => {
     expect(r.unexplained).toEqual([]);
   });
 
+  it('names the lines a first-order blend resolves into in order 2 (Hg I 433.922, 434.749, 435.833 nm)', () => {
+    // Hg I lines from NIST ASD; in order 2 (mλ = d sin θ) they stand at 867.844, 869.498 and 871.666 nm, 1.7–2.2 nm
+    // apart on the first-order scale, where the camera's 2.4 nm-wide first-order peak holds all three. Each image is
+    // 1.2 nm wide on the scale, 0.6 nm in first-order wavelength: resolved.
+    const peaks = [
+      peakAt(404.66, 30, { fwhmNm: 2.4 }),
+      peakAt(435.7, 100, { fwhmNm: 2.4 }),
+      peakAt(546.07, 80, { fwhmNm: 2.4 }),
+      peakAt(576.96, 12, { fwhmNm: 2.4 }),
+      peakAt(579.07, 14, { fwhmNm: 2.4 }),
+      peakAt(867.9, 2, { wavelengthUncertaintyNm: 0.3 }),
+      peakAt(869.4, 3, { wavelengthUncertaintyNm: 0.3 }),
+      peakAt(871.7, 8, { wavelengthUncertaintyNm: 0.3 }),
+    ];
+    const r = identifySpecies(peaks, { lines: projectLines, rangeNm: [380, 900] });
+    const at = (w: number) => r.peaks.find((p) => Math.abs(p.wavelengthNm - w) < 0.01)!.line;
+    expect(at(435.7)?.blendedWithNm).toEqual([433.922, 434.749]);
+    expect(at(867.9)).toEqual({ element: 'Hg', spectrum: 'Hg I', wavelengthNm: 433.922, order: 2 });
+    expect(at(869.4)).toEqual({ element: 'Hg', spectrum: 'Hg I', wavelengthNm: 434.749, order: 2 });
+    expect(at(871.7)).toEqual({ element: 'Hg', spectrum: 'Hg I', wavelengthNm: 435.833, order: 2 });
+  });
+
   it('takes a blue peak beyond the red for a second-order image, seen in first order or not; a red one stays first order', () => {
     // An argon-mercury tube (lines from NIST ASD) on a scale reaching 900 nm. At 2 × Hg I 404.656, Ar I 415.859 and
     // Ar I 420.067 nm the camera records blue light (the order-2 images, mλ = d sin θ), near Ar I 810.369, 840.821 nm;
