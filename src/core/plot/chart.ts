@@ -42,12 +42,25 @@ export const PALETTE = {
   channelB: '#3f63c9',
 } as const;
 
+/** The margins around the plotting area (px): room for the title, the axes and their labels. */
+export function chartMarginsPx(hasTitle: boolean): { top: number; right: number; bottom: number; left: number } {
+  return { top: hasTitle ? 34 : 14, right: 18, bottom: 44, left: 64 };
+}
+
+/** The plotting area's size (px) of a chart of these options, known before it is drawn. */
+export function chartInnerSizePx(options: Pick<ChartOptions, 'widthPx' | 'heightPx' | 'title'>): { widthPx: number; heightPx: number } {
+  const margin = chartMarginsPx(Boolean(options.title));
+  return {
+    widthPx: (options.widthPx ?? CHART_DEFAULTS.widthPx) - margin.left - margin.right,
+    heightPx: (options.heightPx ?? CHART_DEFAULTS.heightPx) - margin.top - margin.bottom,
+  };
+}
+
 export function createChart(options: ChartOptions): Chart {
   const widthPx = options.widthPx ?? CHART_DEFAULTS.widthPx;
   const heightPx = options.heightPx ?? CHART_DEFAULTS.heightPx;
-  const margin = { top: options.title ? 34 : 14, right: 18, bottom: 44, left: 64 };
-  const innerWidthPx = widthPx - margin.left - margin.right;
-  const innerHeightPx = heightPx - margin.top - margin.bottom;
+  const margin = chartMarginsPx(Boolean(options.title));
+  const { widthPx: innerWidthPx, heightPx: innerHeightPx } = chartInnerSizePx(options);
   const svgNode = options.document.createElementNS('http://www.w3.org/2000/svg', 'svg') as SVGSVGElement;
   const svg = d3
     .select(svgNode)

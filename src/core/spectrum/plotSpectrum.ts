@@ -1,9 +1,20 @@
 import * as d3 from 'd3';
 import { invalid } from '../errors.js';
-import { type Chart, chartToSvgText, createChart, PALETTE } from '../plot/chart.js';
+import { type Chart, chartInnerSizePx, chartToSvgText, createChart, PALETTE } from '../plot/chart.js';
+import { textWidthPx } from '../plot/labelLayout.js';
+import { arrangePeakLabels, crowdRisePx, placePeakLabels, type PeakLabelRequest, UPRIGHT_LABEL_PITCH_EM } from '../plot/peakLabels.js';
 import type { Peak, Spectrum } from '../types.js';
 
-export interface PlotSpectrumOptions {
+/** How one peak's label reads and looks. */
+export interface PeakLabelStyle {
+  text: string;
+  /** @default the plot's ink colour */
+  colour?: string;
+  /** The text element's class. @default 'peak-label' */
+  className?: string;
+}
+
+export interface PlotSpectrumOptions<P extends Peak = Peak> {
   /** The browser's document, or one from src/io/svgDocument on Node. */
   document: Document;
   title?: string;
@@ -17,15 +28,33 @@ export interface PlotSpectrumOptions {
   maxLabels?: number;
   /** Horizontal axis: along-band position or calibrated wavelength. @default 'wavelength' when the spectrum has one */
   xAxis?: 'position' | 'wavelength';
+  /**
+   * A peak's label, or undefined for a marker only. @default its wavelength (or position) to 0.1, with "(clipped)"
+   * for a saturated peak
+   */
+  labelOf?: (p: P) => PeakLabelStyle | undefined;
+  /** Lines written at the top right, right-aligned; the peak labels keep clear of them. */
+  legend?: ReadonlyArray<{ text: string; colour: string }>;
 }
 
 export const PLOT_SPECTRUM_DEFAULTS = { widthPx: 900, heightPx: 380, showChannels: true, maxLabels: 24 } as const;
+
+/** Font size of the peak labels (px). */
+const LABEL_FONT_PX = 9;
+/** Font size and line pitch of the legend (px), and its inset from the plot area's top right corner. */
+const LEGEND_FONT_PX = 10;
+const LEGEND_LINE_PX = 12;
+const LEGEND_INSET_PX = 8;
+/** Clearance kept between a label and the top of the plot area or the legend (px). */
+const LABEL_CLEAR_PX = 2;
+/** The labels of a crowd may take at most this share of the plot's height; beyond, its labels are left out. */
+const MAX_LABEL_SHARE = 0.85;
 
 /**
  * A spectrum plot: the combined intensity, the colour channels faintly beneath it, clipped samples shaded, and a
  * marker with its position on each peak (a hollow marker for a blended peak, a red one for a saturated peak).
  */
-export function plotSpectrum(spectrum: Spectrum, peaks: readonly Peak[], options: PlotSpectrumOptions): Chart {
+export function plotSpectrum<P extends Peak>(spectrum: Spectrum, peaks: readonly P[], options: PlotSpectrumOptions<P>): Chart {
   const n = spectrum.intensity.length;
   if (n < 2 || spectrum.positionPx.length !== n) {
     throw invalid('spectrum', 'at least 2 samples with matching positionPx and intensity', spectrum.intensity);
@@ -33,7 +62,7 @@ export function plotSpectrum(spectrum: Spectrum, peaks: readonly Peak[], options
   const useWavelength = (options.xAxis ?? (spectrum.wavelengthNm ? 'wavelength' : 'position')) === 'wavelength';
   if (useWavelength && !spectrum.wavelengthNm) throw invalid('xAxis', "'position' for a spectrum without calibration", 'wavelength');
   const xs = useWavelength ? spectrum.wavelengthNm! : spectrum.positionPx;
-  const xOf = (p: Peak): number => (useWavelength ? (p.wavelengthNm ?? Number.NaN) : p.positionPx);
+  const xOf = (p: P): number => (useWavelength ? (p.wavelengthNm ?? Number.NaN) : p.positionPx);
 
   const showChannels = (options.showChannels ?? PLOT_SPECTRUM_DEFAULTS.showChannels) && spectrum.channels !== undefined;
   const series: Float64Array[] = [spectrum.intensity];
@@ -52,15 +81,63 @@ export function plotSpectrum(spectrum: Spectrum, peaks: readonly Peak[], options
   if (yMax <= yMin) yMax = yMin + 1;
   const pad = 0.08 * (yMax - yMin);
   const [x0, x1] = d3.extent(xs) as [number, number];
+  const xDomain: [number, number] = [x0, x1 > x0 ? x1 : x0 + 1];
+  const widthPx = options.widthPx ?? PLOT_SPECTRUM_DEFAULTS.widthPx;
+  const heightPx = options.heightPx ?? PLOT_SPECTRUM_DEFAULTS.heightPx;
+  const inner = chartInnerSizePx({ widthPx, heightPx, title: options.title });
+  const xScale = d3.scaleLinear().domain(xDomain).range([0, inner.widthPx]);
+
+  // The labels, laid out sideways before the chart is drawn: their room above the traces sets the top of the scale.
+  const shown = peaks.filter((p) => Number.isFinite(xOf(p)));
+  const labelOf = options.labelOf ?? ((p: P) => ({ text: (useWavelength ? p.wavelengthNm! : p.positionPx).toFixed(1) + (p.saturated ? ' (clipped)' : '') }));
+  const pitchPx = UPRIGHT_LABEL_PITCH_EM * LABEL_FONT_PX;
+  const room = Math.max(0, Math.floor(inner.widthPx / pitchPx));
+  const maxLabels = Math.min(room, options.maxLabels ?? PLOT_SPECTRUM_DEFAULTS.maxLabels);
+  const labelled: Array<{ peak: P; style: PeakLabelStyle }> = [];
+  for (const p of [...shown].sort((a, b) => b.height - a.height)) {
+    if (labelled.length >= maxLabels) break;
+    const atPx = xScale(xOf(p));
+    if (!(atPx >= 0 && atPx <= inner.widthPx)) continue;
+    const style = labelOf(p);
+    if (style) labelled.push({ peak: p, style });
+  }
+  const requests: PeakLabelRequest[] = labelled.map(({ peak, style }) => ({ xPx: xScale(xOf(peak)), text: style.text, fontPx: LABEL_FONT_PX }));
+  const arrangement = arrangePeakLabels(requests, inner.widthPx);
+
+  // The highest value any drawn trace reaches over a span of the plot's width, from the samples' positions.
+  const samplePx = Float64Array.from(xs, (v) => xScale(v));
+  const sampleTop = new Float64Array(n).fill(Number.NEGATIVE_INFINITY);
+  for (const s of series) for (let i = 0; i < n; i++) if (Number.isFinite(s[i]) && s[i] > sampleTop[i]) sampleTop[i] = s[i];
+  const highestIn = (a: number, b: number): number => {
+    let top = Number.NEGATIVE_INFINITY;
+    for (let i = 0; i < n; i++) if (samplePx[i] >= a && samplePx[i] <= b && sampleTop[i] > top) top = sampleTop[i];
+    return top;
+  };
+  const legend = options.legend ?? [];
+  const legendBox = {
+    x0: inner.widthPx - LEGEND_INSET_PX - Math.max(0, ...legend.map((l) => textWidthPx(l.text, LEGEND_FONT_PX))) - LABEL_CLEAR_PX,
+    y1: legend.length ? LEGEND_INSET_PX + LEGEND_LINE_PX * (legend.length - 1) + 0.22 * LEGEND_FONT_PX + LABEL_CLEAR_PX : 0,
+  };
+  const underLegend = (rightPx: number): boolean => legend.length > 0 && rightPx > legendBox.x0;
+  const yBottom = Math.min(0, yMin - pad);
+  let yTop = yMax + 2.5 * pad;
+  for (const crowd of arrangement.crowds) {
+    const members = crowd.members;
+    const v = Math.max(highestIn(crowd.x0Px, crowd.x1Px), ...members.map((i) => peakTop(spectrum, labelled[i].peak)));
+    const needPx = Math.max(...members.map((i) => arrangement.lengthPx[i])) + crowdRisePx(members.length) + LABEL_CLEAR_PX + (underLegend(crowd.x1Px) ? legendBox.y1 : 0);
+    const share = needPx / inner.heightPx;
+    if (share < MAX_LABEL_SHARE && Number.isFinite(v)) yTop = Math.max(yTop, (v - share * yBottom) / (1 - share));
+  }
+
   const chart = createChart({
     document: options.document,
-    widthPx: options.widthPx ?? PLOT_SPECTRUM_DEFAULTS.widthPx,
-    heightPx: options.heightPx ?? PLOT_SPECTRUM_DEFAULTS.heightPx,
+    widthPx,
+    heightPx,
     title: options.title,
     xLabel: useWavelength ? 'wavelength (nm)' : 'position along the band (px)',
     yLabel: 'intensity (linear, relative)',
-    xDomain: [x0, x1 > x0 ? x1 : x0 + 1],
-    yDomain: [Math.min(0, yMin - pad), yMax + 2.5 * pad],
+    xDomain,
+    yDomain: [yBottom, yTop],
   });
   const { plot, x, y, innerHeightPx } = chart;
 
@@ -109,9 +186,6 @@ export function plotSpectrum(spectrum: Spectrum, peaks: readonly Peak[], options
   }
   plot.append('path').attr('class', 'intensity').attr('d', line(spectrum.intensity)).attr('fill', 'none').attr('stroke', PALETTE.ink).attr('stroke-width', 1.3);
 
-  const shown = peaks.filter((p) => Number.isFinite(xOf(p)));
-  const maxLabels = options.maxLabels ?? PLOT_SPECTRUM_DEFAULTS.maxLabels;
-  const labelled = new Set([...shown].sort((a, b) => b.height - a.height).slice(0, maxLabels));
   const markers = plot.append('g').attr('class', 'peaks');
   for (const p of shown) {
     const px = x(xOf(p));
@@ -123,16 +197,47 @@ export function plotSpectrum(spectrum: Spectrum, peaks: readonly Peak[], options
       .attr('d', `M${px},${top - 3}l-4,-7h8z`)
       .attr('fill', p.blended ? 'none' : colour)
       .attr('stroke', colour);
-    if (labelled.has(p)) {
-      const label = useWavelength ? p.wavelengthNm!.toFixed(1) : p.positionPx.toFixed(1);
-      markers
-        .append('text')
-        .attr('class', 'peak-label')
-        .attr('transform', `translate(${px + 3},${top - 13}) rotate(-60)`)
-        .attr('font-size', 9)
-        .attr('fill', PALETTE.ink)
-        .text(label + (p.saturated ? ' (clipped)' : ''));
+  }
+
+  // Labels upright above their peaks, spread where they crowd and tied to their peaks by leaders (plot/peakLabels.ts).
+  const placed = placePeakLabels(
+    requests,
+    arrangement,
+    labelled.map(({ peak }) => y(peakTop(spectrum, peak))),
+    (a, b) => y(highestIn(a, b)),
+  );
+  const layer = plot.append('g').attr('class', 'labels');
+  for (const i of arrangement.order) {
+    const at = placed[i];
+    const half = pitchPx / 2;
+    const clearOfLegend = !(underLegend(at.xPx + half) && at.endYPx < legendBox.y1);
+    if (!(at.endYPx >= 0 && clearOfLegend)) continue; // no room even with the scale raised: a marker only
+    const { style } = labelled[i];
+    const colour = style.colour ?? PALETTE.ink;
+    if (at.leader.length > 1) {
+      layer
+        .append('path')
+        .attr('class', 'label-leader')
+        .attr('d', 'M' + at.leader.map(([lx, ly]) => `${lx.toFixed(1)},${ly.toFixed(1)}`).join('L'))
+        .attr('fill', 'none')
+        .attr('stroke', colour)
+        .attr('stroke-width', 0.6)
+        .attr('opacity', 0.6);
     }
+    layer
+      .append('text')
+      .attr('class', style.className ?? 'peak-label')
+      .attr('transform', `translate(${(at.xPx + 0.29 * LABEL_FONT_PX).toFixed(1)},${at.startYPx.toFixed(1)}) rotate(-90)`)
+      .attr('font-size', LABEL_FONT_PX)
+      .attr('fill', colour)
+      .text(style.text);
+  }
+
+  if (legend.length > 0) {
+    const g = plot.append('g').attr('class', 'legend').attr('transform', `translate(${inner.widthPx - LEGEND_INSET_PX},${LEGEND_INSET_PX})`);
+    legend.forEach((l, k) => {
+      g.append('text').attr('x', 0).attr('y', LEGEND_LINE_PX * k).attr('text-anchor', 'end').attr('font-size', LEGEND_FONT_PX).attr('fill', l.colour).text(l.text);
+    });
   }
   return chart;
 }

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { identifySpecies } from '../../../src/core/identify/identifySpecies.js';
-import { plotIdentificationSvg } from '../../../src/core/identify/plotIdentification.js';
+import { plotIdentification, plotIdentificationSvg } from '../../../src/core/identify/plotIdentification.js';
 import type { Spectrum } from '../../../src/core/types.js';
 import { createSvgDocument } from '../../../src/io/svgDocument.js';
 import { loadLineList } from '../../../src/io/lineList.js';
@@ -25,6 +25,18 @@ describe('plotIdentificationSvg(spectrum, peaks, species, {document})', () => {
     expect(svg).toMatch(/class="line-label unexplained"[^>]*>\? 520\.0</);
     expect(svg).toMatch(/Ne {2}score 1\.00, \d+ % of the flux/);
     expect(svg).toContain('wavelength (nm)');
+  });
+
+  it('labels every peak, upright and inside the plot, its species legend at the top right', () => {
+    const chart = plotIdentification(spectrum, id.peaks, id.species, { document: createSvgDocument(), wavelengthNm });
+    const labels = [...chart.svg.node()!.querySelectorAll('text.line-label')];
+    expect(labels.length).toBe(id.peaks.length);
+    for (const t of labels) {
+      const m = /^translate\(([-\d.]+),([-\d.]+)\) rotate\(-90\)$/.exec(t.getAttribute('transform')!)!;
+      expect(Number(m[1])).toBeGreaterThan(0);
+      expect(Number(m[1])).toBeLessThan(chart.innerWidthPx);
+    }
+    expect(chart.svg.node()!.querySelector('g.legend text')!.textContent).toMatch(/^Ne {2}score/);
   });
 
   it('falls back to positions when no wavelength scale is given', () => {

@@ -1,7 +1,7 @@
 import * as d3 from 'd3';
 import { chartToSvgText, createChart, PALETTE } from '../../plot/chart.js';
 import { formatNumber } from '../html.js';
-import { type Box, type LabelCandidate, type LabelRequest, layoutLabels, textBox } from './labelLayout.js';
+import { type Box, type LabelCandidate, type LabelRequest, layoutLabels, textBox } from '../../plot/labelLayout.js';
 
 /** One measured point with its standard uncertainty. */
 export interface PlotPoint {

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { calibrationSection } from '../../../../src/core/report/sections/calibrationSection.js';
-import { boxesOverlap, segmentHitsBox, textWidthPx } from '../../../../src/core/report/sections/labelLayout.js';
+import { boxesOverlap, segmentHitsBox, textWidthPx } from '../../../../src/core/plot/labelLayout.js';
 import { type PlotPoint, plotPoints } from '../../../../src/core/report/sections/plotPoints.js';
 import { createSvgDocument } from '../../../../src/io/svgDocument.js';
 import { parseSvg } from './results.js';
