@@ -1,7 +1,8 @@
 import { promises as fs } from 'node:fs';
-import { Ajv, type ErrorObject } from 'ajv';
+import { Ajv } from 'ajv';
 import { InputError } from '../core/errors.js';
 import { type AnalyserProfile, validateAnalyserProfile } from '../core/polarization/corrections.js';
+import { describeSchemaErrors } from './schemaErrors.js';
 import { writeFileAtomic } from './writeAtomic.js';
 
 /**
@@ -60,7 +61,7 @@ let validator: ReturnType<Ajv['compile']> | undefined;
 
 /** The schema's validator, compiled on first use: compiling it at import cost every command ~30 ms of start-up. */
 function schemaValidator(): ReturnType<Ajv['compile']> {
-  return (validator ??= new Ajv({ allErrors: true, strict: false }).compile(ANALYSER_PROFILE_SCHEMA));
+  return (validator ??= new Ajv({ allErrors: true, strict: false, verbose: true }).compile(ANALYSER_PROFILE_SCHEMA));
 }
 
 /** Reads and checks an analyser profile; any problem is one InputError naming the file and the key. */
@@ -78,7 +79,7 @@ export async function readAnalyserProfile(file: string): Promise<AnalyserProfile
 /** Checks parsed JSON against the schema and turns it into the camelCase profile. */
 export function parseAnalyserProfile(json: unknown, source: string): AnalyserProfileFile {
   const validate = schemaValidator();
-  if (!validate(json)) throw new InputError(`${source}: not a usable analyser profile: ${describeErrors(validate.errors ?? [])}`, source);
+  if (!validate(json)) throw new InputError(`${source}: not a usable analyser profile: ${describeSchemaErrors(validate.errors ?? [])}`, source);
   const j = json as unknown as Record<string, unknown> & { calibration?: Record<string, unknown> };
   const core = validateAnalyserProfile(
     {
@@ -141,17 +142,4 @@ export async function writeAnalyserProfile(file: string, profile: AnalyserProfil
   // What is written must read back: checked before the file is touched.
   parseAnalyserProfile(json, file);
   await writeFileAtomic(file, JSON.stringify(json, null, 2) + '\n', { inputs });
-}
-
-function describeErrors(errors: ErrorObject[]): string {
-  return errors
-    .slice(0, 3)
-    .map((e) => {
-      const where = e.instancePath ? e.instancePath.slice(1).replace(/\//g, '.') : 'the file';
-      if (e.keyword === 'additionalProperties') return `${where}: unknown key "${(e.params as { additionalProperty: string }).additionalProperty}"`;
-      if (e.keyword === 'required') return `${where}: missing "${(e.params as { missingProperty: string }).missingProperty}"`;
-      if (e.keyword === 'const') return `${where}: expected ${JSON.stringify((e.params as { allowedValue: unknown }).allowedValue)}`;
-      return `${where} ${e.message}`;
-    })
-    .join('; ');
 }

@@ -160,7 +160,7 @@ describe('glowprint polarization', () => {
     it('angles and images that do not match in number', () =>
       fail([...photos('laser-c-photos').slice(0, 4), '--angles', '0,15,30'], /--angles: 3 angles for 4 images/));
     it('a missing file', () => fail(['--table', path.join(tmp, 'nope.csv')], /nope\.csv: no such file/));
-    it('a bad analyser profile', () => fail(['--table', demo('floor-glare.csv'), '--analyser', table('p.json', '{"format":"glowprint-analyser-profile","version":1}')], /p\.json: not a usable analyser profile: the file: missing "offset_deg"/));
+    it('a bad analyser profile', () => fail(['--table', demo('floor-glare.csv'), '--analyser', table('p.json', '{"format":"glowprint-analyser-profile","version":1}')], /p\.json: not a usable analyser profile: missing fields "offset_deg", "offset_uncertainty_deg"/));
     it('an extinction ratio of 1', () => fail(['--table', demo('floor-glare.csv'), '--extinction-ratio', '1'], /--extinction-ratio: expected k1\/k2 greater than 1/));
   });
 

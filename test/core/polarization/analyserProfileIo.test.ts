@@ -16,13 +16,15 @@ describe('analyser profile file', () => {
     expect(json).toMatchObject({ format: 'glowprint-analyser-profile', version: 1, offset_deg: 3.5, extinction_ratio: 300 });
     expect(await readAnalyserProfile(file)).toEqual(profile);
   });
-  it('names the problem: unknown key, missing offset, out-of-range value, not JSON', async () => {
+  it('names the problem: unknown field, missing offset, out-of-range or mistyped value, not JSON', async () => {
     const base = { format: 'glowprint-analyser-profile', version: 1, offset_deg: 1, offset_uncertainty_deg: 0.1 };
-    expect(() => parseAnalyserProfile({ ...base, extinction: 100 }, 'p.json')).toThrow(/^p\.json: not a usable analyser profile: the file: unknown key "extinction"/);
+    expect(() => parseAnalyserProfile({ ...base, extinction: 100 }, 'p.json')).toThrow(/^p\.json: not a usable analyser profile: unknown field "extinction"$/);
     const { offset_deg: _drop, ...missing } = base;
-    expect(() => parseAnalyserProfile(missing, 'p.json')).toThrow(/missing "offset_deg"/);
-    expect(() => parseAnalyserProfile({ ...base, offset_deg: 120 }, 'p.json')).toThrow(/offset_deg must be <= 90/);
-    expect(() => parseAnalyserProfile({ ...base, extinction_ratio: 1 }, 'p.json')).toThrow(/extinction_ratio must be > 1/);
+    expect(() => parseAnalyserProfile(missing, 'p.json')).toThrow(/: missing field "offset_deg"$/);
+    expect(() => parseAnalyserProfile({ ...base, offset_deg: 120 }, 'p.json')).toThrow(/: offset_deg: expected a number ≤ 90, got 120$/);
+    expect(() => parseAnalyserProfile({ ...base, offset_deg: 'abc' }, 'p.json')).toThrow(/: offset_deg: expected a number, got "abc"$/);
+    expect(() => parseAnalyserProfile({ ...base, calibration: { inputs: [1] } }, 'p.json')).toThrow(/: calibration\.inputs\[0\]: expected a string, got 1$/);
+    expect(() => parseAnalyserProfile({ ...base, extinction_ratio: 1 }, 'p.json')).toThrow(/: extinction_ratio: expected a number > 1, got 1$/);
     const bad = path.join(tmp, 'bad.json');
     writeFileSync(bad, '{ offset_deg: 1 ');
     await expect(readAnalyserProfile(bad)).rejects.toThrow(/bad\.json: not valid JSON/);
