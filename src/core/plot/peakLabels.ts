@@ -12,6 +12,7 @@
  *
  * Everything is in the plot area's pixels, y downwards; text extents are estimated (labelLayout.ts).
  */
+import type { Selection } from 'd3';
 import { textWidthPx } from './labelLayout.js';
 
 /** Horizontal room one upright label takes, as a multiple of its font size (line height plus a little air). */
@@ -64,6 +65,13 @@ export interface PeakLabelRequest {
   fontPx: number;
 }
 
+/** Labels (indices into the requests, in the peaks' order) whose peaks and labels share room, and the span they cover (px). */
+export interface LabelCrowd {
+  members: number[];
+  x0Px: number;
+  x1Px: number;
+}
+
 /** The sideways part of the layout, which needs no vertical scale. */
 export interface PeakLabelArrangement {
   /** Requests in the order of their peaks' positions (indices into the requests). */
@@ -71,7 +79,7 @@ export interface PeakLabelArrangement {
   /** Where each request's label stands (px, indexed like the requests). */
   labelXPx: number[];
   /** Crowds: runs of labels (in `order`) whose peaks and labels share room, each with the span it covers (px). */
-  crowds: Array<{ members: number[]; x0Px: number; x1Px: number }>;
+  crowds: LabelCrowd[];
   /** Estimated length of each label's text (px). */
   lengthPx: number[];
 }
@@ -152,4 +160,76 @@ export function placePeakLabels(
 /** How far above the highest trace under it a crowd's labels reach, beyond their own length (px). */
 export function crowdRisePx(members: number): number {
   return MARKER_HEIGHT_PX + (members > 1 ? CROWD_GAP_PX + SLANT_RISE_PX : MARKER_GAP_PX);
+}
+
+/** A crowd of labels may take at most this share of the plot's height; beyond, the scale is not raised for it. */
+export const MAX_LABEL_SHARE = 0.85;
+
+/**
+ * The top of a linear vertical scale [bottom, top] raised, where needed, so that every crowd's labels fit above the
+ * highest value beneath it (`highestUnder(crowd)`, in the scale's units, −∞ for none: traces and markers across the
+ * crowd's span): the crowd's longest label, its leaders' rise and `clearPx(crowd)` (room kept free above it, e.g.
+ * under a legend) within `innerHeightPx`.
+ */
+export function scaleTopForLabels(
+  arrangement: PeakLabelArrangement,
+  highestUnder: (crowd: LabelCrowd) => number,
+  clearPx: (crowd: LabelCrowd) => number,
+  innerHeightPx: number,
+  bottom: number,
+  top: number,
+): number {
+  let raised = top;
+  for (const crowd of arrangement.crowds) {
+    const v = highestUnder(crowd);
+    const needPx = Math.max(...crowd.members.map((i) => arrangement.lengthPx[i])) + crowdRisePx(crowd.members.length) + clearPx(crowd);
+    const share = needPx / innerHeightPx;
+    // The value sits needPx below the top when (top − v) / (top − bottom) = share.
+    if (share < MAX_LABEL_SHARE && Number.isFinite(v)) raised = Math.max(raised, (v - share * bottom) / (1 - share));
+  }
+  return raised;
+}
+
+/** How one placed label is drawn. */
+export interface DrawnLabelStyle {
+  text: string;
+  colour: string;
+  className: string;
+}
+
+/**
+ * Draws placed labels into `layer` in the peaks' order: each one's leader (a thin line in its colour) and its upright
+ * text centred on its place across. `keep` leaves out a label that found no room.
+ */
+export function drawPeakLabels(
+  layer: Selection<SVGGElement, unknown, null, undefined>,
+  arrangement: PeakLabelArrangement,
+  placed: readonly PlacedPeakLabel[],
+  styleOf: (i: number) => DrawnLabelStyle,
+  fontPx: number,
+  keep: (at: PlacedPeakLabel) => boolean = () => true,
+): void {
+  for (const i of arrangement.order) {
+    const at = placed[i];
+    if (!keep(at)) continue;
+    const style = styleOf(i);
+    if (at.leader.length > 1) {
+      layer
+        .append('path')
+        .attr('class', 'label-leader')
+        .attr('d', 'M' + at.leader.map(([lx, ly]) => `${lx.toFixed(1)},${ly.toFixed(1)}`).join('L'))
+        .attr('fill', 'none')
+        .attr('stroke', style.colour)
+        .attr('stroke-width', 0.6)
+        .attr('opacity', 0.6);
+    }
+    // Upright text reading upwards: its glyphs lie across [x − 0.8 em, x + 0.22 em] of the anchor; centred on xPx.
+    layer
+      .append('text')
+      .attr('class', style.className)
+      .attr('transform', `translate(${(at.xPx + 0.29 * fontPx).toFixed(1)},${at.startYPx.toFixed(1)}) rotate(-90)`)
+      .attr('font-size', fontPx)
+      .attr('fill', style.colour)
+      .text(style.text);
+  }
 }

@@ -2,7 +2,7 @@ import * as d3 from 'd3';
 import { invalid } from '../errors.js';
 import { type Chart, chartInnerSizePx, chartToSvgText, createChart, PALETTE } from '../plot/chart.js';
 import { textWidthPx } from '../plot/labelLayout.js';
-import { arrangePeakLabels, crowdRisePx, placePeakLabels, type PeakLabelRequest, UPRIGHT_LABEL_PITCH_EM } from '../plot/peakLabels.js';
+import { arrangePeakLabels, drawPeakLabels, placePeakLabels, type PeakLabelRequest, scaleTopForLabels, UPRIGHT_LABEL_PITCH_EM } from '../plot/peakLabels.js';
 import type { Peak, Spectrum } from '../types.js';
 
 /** How one peak's label reads and looks. */
@@ -47,8 +47,6 @@ const LEGEND_LINE_PX = 12;
 const LEGEND_INSET_PX = 8;
 /** Clearance kept between a label and the top of the plot area or the legend (px). */
 const LABEL_CLEAR_PX = 2;
-/** The labels of a crowd may take at most this share of the plot's height; beyond, its labels are left out. */
-const MAX_LABEL_SHARE = 0.85;
 
 /**
  * A spectrum plot: the combined intensity, the colour channels faintly beneath it, clipped samples shaded, and a
@@ -120,14 +118,15 @@ export function plotSpectrum<P extends Peak>(spectrum: Spectrum, peaks: readonly
   };
   const underLegend = (rightPx: number): boolean => legend.length > 0 && rightPx > legendBox.x0;
   const yBottom = Math.min(0, yMin - pad);
-  let yTop = yMax + 2.5 * pad;
-  for (const crowd of arrangement.crowds) {
-    const members = crowd.members;
-    const v = Math.max(highestIn(crowd.x0Px, crowd.x1Px), ...members.map((i) => peakTop(spectrum, labelled[i].peak)));
-    const needPx = Math.max(...members.map((i) => arrangement.lengthPx[i])) + crowdRisePx(members.length) + LABEL_CLEAR_PX + (underLegend(crowd.x1Px) ? legendBox.y1 : 0);
-    const share = needPx / inner.heightPx;
-    if (share < MAX_LABEL_SHARE && Number.isFinite(v)) yTop = Math.max(yTop, (v - share * yBottom) / (1 - share));
-  }
+  const markerTops = labelled.map(({ peak }) => peakTop(spectrum, peak));
+  const yTop = scaleTopForLabels(
+    arrangement,
+    (crowd) => Math.max(highestIn(crowd.x0Px, crowd.x1Px), ...crowd.members.map((i) => markerTops[i])),
+    (crowd) => LABEL_CLEAR_PX + (underLegend(crowd.x1Px) ? legendBox.y1 : 0),
+    inner.heightPx,
+    yBottom,
+    yMax + 2.5 * pad,
+  );
 
   const chart = createChart({
     document: options.document,
@@ -206,32 +205,15 @@ export function plotSpectrum<P extends Peak>(spectrum: Spectrum, peaks: readonly
     labelled.map(({ peak }) => y(peakTop(spectrum, peak))),
     (a, b) => y(highestIn(a, b)),
   );
-  const layer = plot.append('g').attr('class', 'labels');
-  for (const i of arrangement.order) {
-    const at = placed[i];
-    const half = pitchPx / 2;
-    const clearOfLegend = !(underLegend(at.xPx + half) && at.endYPx < legendBox.y1);
-    if (!(at.endYPx >= 0 && clearOfLegend)) continue; // no room even with the scale raised: a marker only
-    const { style } = labelled[i];
-    const colour = style.colour ?? PALETTE.ink;
-    if (at.leader.length > 1) {
-      layer
-        .append('path')
-        .attr('class', 'label-leader')
-        .attr('d', 'M' + at.leader.map(([lx, ly]) => `${lx.toFixed(1)},${ly.toFixed(1)}`).join('L'))
-        .attr('fill', 'none')
-        .attr('stroke', colour)
-        .attr('stroke-width', 0.6)
-        .attr('opacity', 0.6);
-    }
-    layer
-      .append('text')
-      .attr('class', style.className ?? 'peak-label')
-      .attr('transform', `translate(${(at.xPx + 0.29 * LABEL_FONT_PX).toFixed(1)},${at.startYPx.toFixed(1)}) rotate(-90)`)
-      .attr('font-size', LABEL_FONT_PX)
-      .attr('fill', colour)
-      .text(style.text);
-  }
+  drawPeakLabels(
+    plot.append('g').attr('class', 'labels'),
+    arrangement,
+    placed,
+    (i) => ({ text: labelled[i].style.text, colour: labelled[i].style.colour ?? PALETTE.ink, className: labelled[i].style.className ?? 'peak-label' }),
+    LABEL_FONT_PX,
+    // No room even with the scale raised (or under the legend): a marker only.
+    (at) => at.endYPx >= 0 && !(underLegend(at.xPx + pitchPx / 2) && at.endYPx < legendBox.y1),
+  );
 
   if (legend.length > 0) {
     const g = plot.append('g').attr('class', 'legend').attr('transform', `translate(${inner.widthPx - LEGEND_INSET_PX},${LEGEND_INSET_PX})`);

@@ -1,12 +1,13 @@
 import * as d3 from 'd3';
-import { type Chart, chartToSvgText, createChart, PALETTE } from '../../plot/chart.js';
+import { type Chart, chartInnerSizePx, chartToSvgText, createChart, PALETTE } from '../../plot/chart.js';
+import { arrangePeakLabels, drawPeakLabels, placePeakLabels, type PeakLabelRequest, scaleTopForLabels, UPRIGHT_LABEL_PITCH_EM } from '../../plot/peakLabels.js';
 import { formatNumber } from '../html.js';
 
 /** One vertical line of a stick plot: a peak of a peak table, a laser mode. */
 export interface Stick {
   x: number;
   height: number;
-  /** Text written above the stick (only the highest `maxLabels` sticks whose labels do not collide get one). */
+  /** Text written above the stick (on the highest `maxLabels` sticks; spread sideways with a leader where they crowd). */
   label?: string;
   /** @default PALETTE.series[0] */
   colour?: string;
@@ -26,7 +27,7 @@ export interface PlotSticksOptions {
   widthPx?: number;
   /** @default 400 */
   heightPx?: number;
-  /** @default 24 */
+  /** At most this many sticks get a label, the highest first. @default 60 */
   maxLabels?: number;
   /** Horizontal range; default the sticks' extent with a margin. */
   xDomain?: [number, number];
@@ -43,18 +44,20 @@ export interface PlotSticksOptions {
   yScale?: 'linear' | 'log' | 'auto';
 }
 
-export const PLOT_STICKS_DEFAULTS = { widthPx: 900, heightPx: 400, maxLabels: 24, yScale: 'linear' } as const;
+export const PLOT_STICKS_DEFAULTS = { widthPx: 900, heightPx: 400, maxLabels: 60, yScale: 'linear' } as const;
 
 /** Heights spanning more than this ratio get a logarithmic axis under yScale 'auto'. */
 export const LOG_SPAN = 100;
 
-/** Rotated labels are this wide on screen (px at font size 10): closer labels would overlap. */
-const LABEL_SPACING_PX = 12;
+/** Font size of the stick labels (px). */
+const LABEL_FONT_PX = 10;
+/** Radius of the marker on each stick's top (px). */
+const MARKER_RADIUS_PX = 3;
 
 /**
  * A stick plot on the project's chart frame: each stick from zero to its height, a marker on top (hollow for
- * `hollow`), dashed for lower bounds, and rotated labels on the highest sticks, skipping any that would overlap a
- * taller one's. For peak tables whose samples are not at hand (a result's JSON carries the peaks, not the spectrum).
+ * `hollow`), dashed for lower bounds, and upright labels on the highest sticks, spread sideways where they crowd and
+ * tied to their sticks by leaders (plot/peakLabels.ts), the scale's top raised to give them room. For peak tables whose samples are not at hand (a result's JSON carries the peaks, not the spectrum).
  */
 export function plotSticks(options: PlotSticksOptions): string {
   const sticks = options.sticks.filter((s) => Number.isFinite(s.x) && Number.isFinite(s.height));
@@ -77,16 +80,33 @@ export function plotSticks(options: PlotSticksOptions): string {
   const minPositive = positive.length ? Math.min(...positive) : 0;
   const scaleOption = options.yScale ?? PLOT_STICKS_DEFAULTS.yScale;
   const log = minPositive > 0 && (scaleOption === 'log' || (scaleOption === 'auto' && maxHeight / minPositive > LOG_SPAN));
-  const labelled = sticks.some((s) => s.label);
   // On a log axis the sticks stand on a floor half a decade below the weakest one; values are drawn as log10.
   const floor = log ? minPositive / Math.sqrt(10) : 0;
   const t = (v: number): number => (log ? Math.log10(Math.max(v, floor)) : v);
   const bottom = t(floor);
   const span = maxHeight > 0 ? t(maxHeight) - bottom : 1;
-  // Room above the tallest stick for its rotated label (about 70 px), else a small margin.
-  const innerHeightPx = heightPx - 78;
-  const headroom = labelled ? Math.min(0.4, 70 / innerHeightPx) : 0.1;
-  const top = maxHeight > 0 ? bottom + span / (1 - headroom) : 1;
+
+  // Labels, laid out sideways first: their room above the sticks under them sets the top of the scale.
+  const inner = chartInnerSizePx({ widthPx, heightPx, title: options.title });
+  const xScale = d3.scaleLinear().domain([x0, x1]).range([0, inner.widthPx]);
+  const room = Math.floor(inner.widthPx / (UPRIGHT_LABEL_PITCH_EM * LABEL_FONT_PX));
+  const maxLabels = Math.min(room, options.maxLabels ?? PLOT_STICKS_DEFAULTS.maxLabels);
+  const labelled = sticks
+    .filter((s) => s.label && xScale(s.x) >= 0 && xScale(s.x) <= inner.widthPx)
+    .sort((a, b) => b.height - a.height)
+    .slice(0, maxLabels);
+  const requests: PeakLabelRequest[] = labelled.map((s) => ({ xPx: xScale(s.x), text: s.label!, fontPx: LABEL_FONT_PX }));
+  const arrangement = arrangePeakLabels(requests, inner.widthPx);
+  const tallestIn = (a: number, b: number): number => {
+    let h = Number.NEGATIVE_INFINITY;
+    for (const s of sticks) if (xScale(s.x) >= a && xScale(s.x) <= b && s.height > h) h = s.height;
+    return h;
+  };
+  // A small margin above the tallest stick, raised where labels need room.
+  let top = maxHeight > 0 ? bottom + span / 0.9 : 1;
+  if (labelled.length && maxHeight > 0) {
+    top = scaleTopForLabels(arrangement, (crowd) => t(Math.max(floor, tallestIn(crowd.x0Px, crowd.x1Px))), () => MARKER_RADIUS_PX + 2, inner.heightPx, bottom, top);
+  }
   const chart = createChart({
     document: options.document,
     widthPx,
@@ -148,23 +168,24 @@ export function plotSticks(options: PlotSticksOptions): string {
       .attr('stroke', PALETTE.series[1])
       .attr('stroke-width', 1.5);
   }
-  // Labels: tallest first; one whose position is too close to an already placed label is left out.
-  const maxLabels = options.maxLabels ?? PLOT_STICKS_DEFAULTS.maxLabels;
-  const placed: number[] = [];
-  const labels = plot.append('g').attr('class', 'labels');
-  for (const s of [...sticks].filter((s) => s.label).sort((a, b) => b.height - a.height)) {
-    if (placed.length >= maxLabels) break;
-    const px = x(s.x);
-    if (placed.some((p) => Math.abs(p - px) < LABEL_SPACING_PX)) continue;
-    placed.push(px);
-    labels
-      .append('text')
-      .attr('class', 'stick-label')
-      .attr('transform', `translate(${px + 3.5},${y(s.height) - 6}) rotate(-90)`)
-      .attr('font-size', 10)
-      .attr('fill', s.colour ?? PALETTE.ink)
-      .text(s.label!);
-  }
+  // Labels upright above their sticks, spread where they crowd, with leaders (plot/peakLabels.ts).
+  const placed = placePeakLabels(
+    requests,
+    arrangement,
+    labelled.map((s) => y(s.height) - MARKER_RADIUS_PX),
+    (a, b) => {
+      const h = tallestIn(a, b);
+      return Number.isFinite(h) ? y(h) - MARKER_RADIUS_PX : chart.innerHeightPx;
+    },
+  );
+  drawPeakLabels(
+    plot.append('g').attr('class', 'labels'),
+    arrangement,
+    placed,
+    (i) => ({ text: labelled[i].label!, colour: labelled[i].colour ?? PALETTE.ink, className: 'stick-label' }),
+    LABEL_FONT_PX,
+    (at) => at.endYPx >= 0, // no room even with the scale raised: the stick stays unlabelled
+  );
   if (options.legend && options.legend.length > 0) {
     // In the title row, right-aligned, where it covers no stick or label (about 6 px per character at 11 px).
     const widths = options.legend.map(([label]) => 15 + 6 * label.length + 14);

@@ -51,13 +51,30 @@ describe('spectrumSection(json, {document})', () => {
 });
 
 describe('plotSticks(options)', () => {
-  it('labels the tallest sticks first and never puts two labels closer than 12 px', () => {
+  it('labels the tallest maxLabels sticks, never two labels closer than 12 px (1.2 em at 10 px)', () => {
     const sticks = Array.from({ length: 60 }, (_, i) => ({ x: 400 + i * 2, height: 1 + ((i * 37) % 11), label: `line ${i}` }));
-    const xs = labelXs(plotSticks({ document, sticks, xLabel: 'x', yLabel: 'y', maxLabels: 40 })).sort((a, b) => a - b);
-    expect(xs.length).toBeGreaterThan(3);
-    for (let i = 1; i < xs.length; i++) expect(xs[i] - xs[i - 1]).toBeGreaterThanOrEqual(12);
-    const tallest = plotSticks({ document, sticks: [{ x: 1, height: 1, label: 'low' }, { x: 1.001, height: 5, label: 'high' }], xLabel: 'x', yLabel: 'y', xDomain: [0, 2] });
-    expect(tallest).toMatch(/>high</);
-    expect(tallest).not.toMatch(/>low</);
+    const svg = plotSticks({ document, sticks, xLabel: 'x', yLabel: 'y', maxLabels: 40 });
+    const xs = labelXs(svg).sort((a, b) => a - b);
+    expect(xs.length).toBe(40);
+    for (let i = 1; i < xs.length; i++) expect(xs[i] - xs[i - 1]).toBeGreaterThanOrEqual(12 - 0.1);
+    const shortest = Math.min(...sticks.filter((s) => svg.includes(`>${s.label}<`)).map((s) => s.height));
+    expect(sticks.filter((s) => s.height > shortest && !svg.includes(`>${s.label}<`))).toEqual([]);
+  });
+
+  it('spreads the labels of two sticks at one place either side, each tied to its stick by a leader', () => {
+    const svg = plotSticks({ document, sticks: [{ x: 1, height: 1, label: 'low' }, { x: 1.001, height: 5, label: 'high' }], xLabel: 'x', yLabel: 'y', xDomain: [0, 2] });
+    expect(svg).toMatch(/>high</);
+    expect(svg).toMatch(/>low</);
+    const xs = labelXs(svg);
+    expect(Math.abs(xs[1] - xs[0])).toBeGreaterThanOrEqual(12 - 0.1);
+    expect(parseSvg(svg).querySelectorAll('path.label-leader').length).toBe(2);
+  });
+
+  it('keeps the tallest when more sticks carry labels than the width holds', () => {
+    // 200 px wide: 118 px inside the margins hold 9 labels at 12 px.
+    const sticks = Array.from({ length: 30 }, (_, i) => ({ x: i, height: i + 1, label: `s${i}` }));
+    const svg = plotSticks({ document, sticks, xLabel: 'x', yLabel: 'y', widthPx: 200 });
+    const shown = sticks.filter((s) => svg.includes(`>${s.label}<`)).map((s) => s.x);
+    expect(shown).toEqual([21, 22, 23, 24, 25, 26, 27, 28, 29]);
   });
 });
