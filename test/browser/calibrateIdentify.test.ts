@@ -141,6 +141,19 @@ describe.runIf(browserSuite === 'run')('upload → calibrate → identify in the
     }
     expect(arRows.filter((r) => !/\(order/.test(r.line)).length).toBeGreaterThanOrEqual(4);
     expect(arRows.some((r) => /\(order 2\)/.test(r.line))).toBe(true);
+    // Every identified peak is labelled (tube B's 50 fit the plot's width), no two labels overlap, and each label is
+    // inside the picture, the long order-2 ones too.
+    const boxes = await page.$$eval('#spectrum-card g.labels text', (els) => {
+      const svg = els[0].closest('svg')!.getBoundingClientRect();
+      return els.map((e) => {
+        const r = e.getBoundingClientRect();
+        return { text: e.textContent ?? '', x0: r.left, x1: r.right, top: r.top - svg.top, left: r.left - svg.left, right: svg.right - r.right };
+      });
+    });
+    expect(boxes.length).toBe(rows.filter((r) => r.line && r.line !== '?').length);
+    const byX = [...boxes].sort((a, b) => a.x0 - b.x0);
+    for (let k = 1; k < byX.length; k++) expect(byX[k].x0, `${byX[k - 1].text} | ${byX[k].text}`).toBeGreaterThanOrEqual(byX[k - 1].x1 - 0.5);
+    for (const b of boxes) expect(Math.min(b.top, b.left, b.right), b.text).toBeGreaterThanOrEqual(0);
     await harness.shot(page, 'identified-tube-b-with-profile');
 
     // Exports of what is shown: the plot as SVG (wavelength axis) and the spectrum as CSV.

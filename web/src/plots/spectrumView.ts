@@ -5,6 +5,8 @@
  * Colours are set as attributes, so the exported SVG looks like the screen.
  */
 import * as d3 from 'd3';
+import { textWidthPx } from '../../../src/core/plot/labelLayout.js';
+import { spreadPositions } from '../../../src/core/plot/peakLabels.js';
 import { h } from '../ui/dom.js';
 import { wavelengthCss } from './wavelengthColour.js';
 
@@ -42,8 +44,10 @@ export const PLOT_THEME = {
 } as const;
 
 const MARGIN = { top: 16, right: 18, bottom: 42, left: 62 };
-/** Room above the plot for line labels (vertical text), when there are labels to show. */
+/** Room above the plot for line labels (vertical text), when there are labels to show: at least this… */
 const LABEL_STRIP_PX = 84;
+/** …and as much as the longest label needs ("Ar I 415.86 (order 2)"), up to this. */
+const MAX_LABEL_STRIP_PX = 150;
 
 export interface SpectrumViewOptions {
   heightPx?: number;
@@ -169,7 +173,9 @@ export class SpectrumView {
     const axisChanged = !!data?.wavelengthNm !== !!this.data?.wavelengthNm;
     this.data = data;
     this.peaks = peaks;
-    const top = !this.options.live && peaks.some((p) => p.label) ? MARGIN.top + LABEL_STRIP_PX : MARGIN.top;
+    const longest = Math.max(0, ...peaks.map((p) => (p.label ? textWidthPx(p.label, 10) : 0)));
+    const strip = Math.min(MAX_LABEL_STRIP_PX, Math.max(LABEL_STRIP_PX, Math.ceil(longest) + 6));
+    const top = !this.options.live && longest > 0 ? MARGIN.top + strip : MARGIN.top;
     if (top !== this.margin.top) {
       this.margin.top = top;
       this.layout();
@@ -337,7 +343,7 @@ export class SpectrumView {
       .attr('fill', PLOT_THEME.saturated)
       .attr('fill-opacity', 0.18);
 
-    // Peaks: a marker above each; labels for those that carry one, highest first where they would collide.
+    // Peaks: a marker above each; labels for those that carry one, spread along the top where they crowd.
     const peaks = this.peaks.map((p, i) => ({ p, i, px: x(this.peakX(p)), py: y(p.height) })).filter((q) => Number.isFinite(q.px));
     plot
       .select('g.peaks')
@@ -355,22 +361,25 @@ export class SpectrumView {
       .data(labelled)
       .join((enter) => {
         const g = enter.append('g');
-        g.append('line');
+        g.append('path');
         g.append('text');
         return g;
       });
+    // Leader: from the label's foot aslant to above its peak within a short band under the top (where the labels
+    // were spread, so no two leaders cross), then straight down to the peak's marker.
     labelGroups
-      .select('line')
-      .attr('x1', (q) => q.px)
-      .attr('x2', (q) => q.px)
-      .attr('y1', -2)
-      .attr('y2', (q) => Math.max(0, q.py - 12))
+      .select('path')
+      .attr('d', (q) => {
+        const foot = Math.max(LEADER_BAND_PX, q.py - 12);
+        return `M${q.lx.toFixed(1)},-2L${q.px.toFixed(1)},${LEADER_BAND_PX}L${q.px.toFixed(1)},${foot.toFixed(1)}`;
+      })
+      .attr('fill', 'none')
       .attr('stroke', (q) => q.p.colour ?? PLOT_THEME.marker)
       .attr('stroke-opacity', 0.35)
       .attr('stroke-dasharray', '1 2');
     labelGroups
       .select('text')
-      .attr('transform', (q) => `translate(${q.px + 3.5},-4) rotate(-90)`)
+      .attr('transform', (q) => `translate(${(q.lx + 3.5).toFixed(1)},-4) rotate(-90)`)
       .attr('fill', (q) => q.p.colour ?? PLOT_THEME.marker)
       .attr('font-size', 10)
       .text((q) => q.p.label ?? '');
@@ -582,14 +591,30 @@ function areaOf(xs: Float64Array, ys: Float64Array, x: d3.ScaleLinear<number, nu
 }
 
 /** Labels of the highest peaks first; a label is left out when it would sit within 11 px of one already placed (the text is 10 px high). */
-function placeLabels<T extends { px: number; p: ViewPeak }>(items: T[], widthPx: number): T[] {
-  const placed: T[] = [];
-  for (const q of [...items].sort((a, b) => b.p.height - a.p.height)) {
-    if (q.px < 0 || q.px > widthPx) continue;
-    if (placed.some((o) => Math.abs(o.px - q.px) < 11)) continue;
-    placed.push(q);
-  }
-  return placed;
+/** Room one upright label takes across the plot (px at font size 10). */
+const LABEL_PITCH_PX = 11;
+/** Depth of the band under the plot's top in which leaders run aslant from a spread label to above its peak (px). */
+const LEADER_BAND_PX = 10;
+
+/**
+ * The labels drawn along the top: the highest peaks in view, as many as the width holds, each moved sideways as
+ * little as keeps it clear of its neighbours (least squares under a minimum spacing, plot/peakLabels.ts); `lx` is
+ * where its text stands.
+ */
+function placeLabels<T extends { px: number; p: ViewPeak }>(items: T[], widthPx: number): Array<T & { lx: number }> {
+  const room = Math.max(0, Math.floor(widthPx / LABEL_PITCH_PX));
+  const shown = items
+    .filter((q) => q.px >= 0 && q.px <= widthPx)
+    .sort((a, b) => b.p.height - a.p.height)
+    .slice(0, room)
+    .sort((a, b) => a.px - b.px);
+  const lx = spreadPositions(
+    shown.map((q) => q.px),
+    LABEL_PITCH_PX,
+    LABEL_PITCH_PX / 2,
+    widthPx - LABEL_PITCH_PX / 2,
+  );
+  return shown.map((q, k) => ({ ...q, lx: lx[k] }));
 }
 
 function fmt(v: number): string {
