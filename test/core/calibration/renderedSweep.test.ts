@@ -237,17 +237,30 @@ describe('calibrateFromPeaks on rendered photos (render → JPEG → decode → 
   // beside 557 and 587 nm), #9 (Kr, 0.36 nm/px, 9 lines) is added: 11 right, none wrong; the two other Kr photos
   // still decline (6 of 7 and 6 of 13 peaks matched at 0.87–0.90 nm/px, where chance gives 2.6–2.8). With the zero
   // order taken at a gap of 0.3 (was 0.35) of the other members' span (findZeroOrder), #11 (Ar, 1.23 nm/px, its zero
-  // order 0.33 of the span from the lines) is added: 12 right, none wrong. The floors sit a photo under.
-  it(`calibrates ≥ 11 of ${PHOTOS} seeded photos of the issue's instruments automatically and none wrongly`, async () => {
+  // order 0.33 of the span from the lines) is added: 12 right, none wrong. With the order-2 images of the photo's own
+  // matched peaks counted whatever rank the list gives their lines (ownImageSources in scoreSolution.ts), the same 12;
+  // without the zero order 8 (was 6: #5 Ne at 0.86 and #11 Ar at 1.23 nm/px added).
+  // The four still declined, measured peak by peak against the renderer's truth: #2 and #12 (Xe, 1.77–1.84 nm/px)
+  // show 9–11 first-order peaks, most of them Xe I lines the project's list lacks (539.3, 556.7, 569.6, 587.5, 589.5,
+  // 650.4, 666.9, 672.8 nm), and 14–16 order-2 images; the truth's own assignment matches 7–9 lines and is no
+  // evidence (chance ≥ 10^-2.8 against 10^5.5 trials). #14 (Kr, 0.87 nm/px): 13 of its 30 peaks are order-2 images,
+  // several first-order lines are missing from the list (481.3, 549.1/550.1, 669.9, 681.3, 690.5 nm); the truth's
+  // assignment reaches 10^2.8 before the zero order. #4 (Kr, 0.90 nm/px) is a right decline: its best scale reads
+  // 11 of the 31 true lines more than 1.5 px off (widening the order-2 windows by the model's uncertainty let it
+  // through, so that was not kept). The floors are the counts measured.
+  it(`calibrates ≥ 12 of ${PHOTOS} seeded photos of the issue's instruments automatically and none wrongly`, async () => {
     for (let k = 0; k < PHOTOS; k++) firstSweep.push(await renderedCase(k, TUBES, 'sweep'));
     const outcomes = firstSweep.map((c) => calibrateCase(c));
     const report = outcomes.map((o, k) => describeCase(k, firstSweep[k], o)).join('\n');
     show(report);
     expect(outcomes.flatMap((o, k) => (o.kind === 'calibrated' && !o.right ? [describeCase(k, firstSweep[k], o)] : []))).toEqual([]);
-    expect(right(outcomes), report).toBeGreaterThanOrEqual(11);
-    // Without the zero order the same photos give fewer (5 before the Kr I lines were added): it adds at least three.
+    expect(right(outcomes), report).toBeGreaterThanOrEqual(12);
+    // Without the zero order the same photos give fewer (5 before the Kr I lines were added, 6 before the photo's own
+    // order-2 images counted): it adds at least three.
     const without = firstSweep.map((c) => calibrateCase(c, { zeroOrder: false }));
+    const withoutReport = without.map((o, k) => describeCase(k, firstSweep[k], o)).join('\n');
     expect(without.flatMap((o, k) => (o.kind === 'calibrated' && !o.right ? [describeCase(k, firstSweep[k], o)] : []))).toEqual([]);
+    expect(right(without), withoutReport).toBeGreaterThanOrEqual(8);
     expect(right(outcomes) - right(without), report).toBeGreaterThanOrEqual(3);
   }, 600_000);
 
@@ -272,13 +285,23 @@ describe('calibrateFromPeaks on rendered photos (render → JPEG → decode → 
   // resolution (FWHM × dispersion: at 4.6 nm every red Ne line is a blend, so every peak's chance grows as much as the
   // matches), order-2 hypotheses for lines the photo's three to six strongest peaks match (with their windows bounded
   // in every peak's chance), and each peak's chance as the union of the admitted lines' own windows.
-  it('calibrates ≥ 17 of 20 seeded photos of mercury, neon, helium and argon tubes and none wrongly', async () => {
+  // The two Ne photos (#11 at 1.23, #16 at 1.13 nm/px), measured peak by peak: at a 4.4–4.6 nm line width the red
+  // Ne I lines (some forty in 575–720 nm) blend into one another, so a random red peak lands on one of them with
+  // chance 0.2–0.3: the truth's own assignment, refitted with the grating model (9 of 22 and 17 of 25 peaks), was
+  // bounded at 10^-0.1 and 10^-0.1 with the trials counted, before the zero order's agreement (10^-1.6). Their 5–6
+  // order-2 images are of the blue lines 470.4–483 nm, which the tubes (outside reference) draw about as bright as the
+  // red ones while the project's list ranks them 100 times fainter; counted from the photo's own matched peaks
+  // (ownImageSources), the truth of #16 reaches 10^-2.4 before the zero order, but the search's best scale there
+  // keeps 13 of its 17 lines (three red blends fall outside its 0.36 px tolerance) and is bounded at 10^-1.9 with
+  // the zero order: still declined.
+  // The floor is the count measured.
+  it('calibrates ≥ 18 of 20 seeded photos of mercury, neon, helium and argon tubes and none wrongly', async () => {
     for (let k = 0; k < 20; k++) calibrationSweep.push(await renderedCase(k, CALIBRATION_TUBES, 'lamps'));
     const outcomes = calibrationSweep.map((c) => calibrateCase(c));
     const report = outcomes.map((o, k) => describeCase(k, calibrationSweep[k], o)).join('\n');
     show(report);
     expect(outcomes.flatMap((o, k) => (o.kind === 'calibrated' && !o.right ? [describeCase(k, calibrationSweep[k], o)] : []))).toEqual([]);
-    expect(right(outcomes), report).toBeGreaterThanOrEqual(17);
+    expect(right(outcomes), report).toBeGreaterThanOrEqual(18);
   }, 600_000);
 
   // The band search's zero order on both sweeps' photos: where the renderer put it, when it is in the frame, and never

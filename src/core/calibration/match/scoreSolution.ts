@@ -13,12 +13,17 @@
  * success event under the same p_i keeps the bound valid (conservative). Counting them as
  * evidence, not merely dropping them from the unexplained pool, avoids a selection the chance model does not see:
  * dropping failures chosen by a rule that depends on the order-1 matches would bias the binomial count.
+ * A line the list ranks weak can still be among a photo's brightest (lists rank lines on scales that differ by
+ * orders of magnitude between sources and spectral regions), so the solution's own matched peaks of such lines are
+ * order-2 sources too (ownImageSources): a window at twice each one's reading for every peak no brighter, its
+ * width in every such peak's chance, as for the list's strong lines.
  */
 import { dispersionAtNmPerPx, positionAtPx, wavelengthAtNm, type DispersionModel } from '../model.js';
 import { log10BinomialTail } from '../significance.js';
-import { type Ctx, lineSigmaNm, lowerBound, median, nearest, type Pair, sigmaOf } from './context.js';
+import { type Ctx, lineSigmaNm, lowerBound, median, nearest, type Pair, type PeakItem, sigmaOf } from './context.js';
 import type { GrownSolution } from './growSolution.js';
 import { rmsPx } from './quickFit.js';
+import { modelSigmaNm } from '../uncertainty.js';
 
 export interface MatchScore {
   /** Matched peaks that count as evidence (see scoreSolution). */
@@ -104,6 +109,7 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
   let secondOrder = 0;
   let pSum = 0;
   const brightestOf = firstOrderStrength(ctx, solution);
+  const sources = ownImageSources(ctx, solution);
   for (const q of taking) {
     const pair = pairOf.get(q);
     const disp = Math.abs(dispersionAtNmPerPx(model, px[q]));
@@ -124,7 +130,10 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
     const s2Lo = lowerBound(strong.lw, Math.max(covLo / 2, band ? band[0] : -Infinity) - 1e-9);
     const s2Hi = lowerBound(strong.lw, Math.min(covHi / 2, band ? band[1] : Infinity) + 1e-9);
     const order2 = pair ? 0 : Math.max(0, s2Hi - s2Lo);
-    if (lines === 0 && !pair && order2 === 0) continue;
+    // Order-2 hypotheses from the photo's own order-1 peaks (see ownImageSources): images at twice the reading of a
+    // matched peak at least as strong, of a colour this peak's admits, inside the covered range.
+    const own = pair?.manual ? [] : ownImagesFor(P, sources, q, band, covLo, covHi);
+    if (lines === 0 && !pair && order2 === 0 && own.length === 0) continue;
     const tolNm = tolQ * disp + 2 * (pair ? lineSigmaNm(ctx, pair) : typicalSigmaNm);
     inRange++;
     // An unmatched peak may instead land within tol of 2λ (the window widened by twice the line's reference
@@ -155,11 +164,32 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
         sigma2Hit = sigma2;
       }
     }
+    // The photo's own order-1 peaks as order-2 sources (ownImageSources), each window as wide as the two readings'
+    // tolerances (the source's doubled) and twice the grating model's own uncertainty at the image (a physical scale
+    // extrapolated some hundreds of px beyond its lines; a polynomial's extrapolation is given no such allowance).
+    let ownHit = false;
+    if (own.length) {
+      const modelNm = model.kind === 'grating' ? 2 * modelSigmaNm(model, px[q]) : 0;
+      for (const k of own) {
+        const src = sources[k];
+        const half = tolQ * disp + 2 * src.toleranceNm + modelNm;
+        p2 += (2 * half) / covWidth;
+        const sigma2 = windows ? Math.hypot(centroidNm, 2 * src.sigmaNm) : 0;
+        sigma2Sum += sigma2;
+        const off = Math.abs(lamQ - 2 * src.readingNm);
+        if (!pair && hit2 < 0 && off <= half && off < off2) {
+          ownHit = true;
+          off2 = off;
+          sigma2Hit = sigma2;
+        }
+      }
+    }
+    const imaged = hit2 >= 0 || ownHit;
     pSum += Math.min(1, (lines > 0 || pair ? (2 * tolNm * Math.max(lines, 1)) / covWidth : 0) + p2);
     if (pair) {
       matched++;
       if (pair.manual) manualPeaks++;
-    } else if (hit2 >= 0) {
+    } else if (imaged) {
       secondOrder++;
     }
     // A blended peak's centroid lies between its lines, where no σ-window applies: it takes no part in those counts.
@@ -174,7 +204,7 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
         // line's reference uncertainty).
         const pw = (lines > 0 || pair ? (2 * k * sigmaNm * Math.max(lines, 1)) / covWidth : 0) + (2 * k * sigma2Sum) / covWidth;
         win.pSum += Math.min(1, pw);
-        if (offNm <= k * sigmaNm || (hit2 >= 0 && off2 <= k * sigma2Hit)) win.hits++;
+        if (offNm <= k * sigmaNm || (imaged && off2 <= k * sigma2Hit)) win.hits++;
       });
     }
   }
@@ -289,6 +319,7 @@ export function secondOrderPairs(ctx: Ctx, solution: GrownSolution): Pair[] {
   const { model, pairs, window, tolerancePx: tolPx } = solution;
   const strong = strongLinesOf(ctx);
   const brightestOf = firstOrderStrength(ctx, solution);
+  const sources = ownImageSources(ctx, solution);
   const taken = new Set(pairs.map((q) => q.peak));
   const out: Pair[] = [];
   for (let q = lowerBound(px, window[0]); q < px.length && px[q] <= window[1]; q++) {
@@ -306,6 +337,18 @@ export function secondOrderPairs(ctx: Ctx, solution: GrownSolution): Pair[] {
       if (off <= tolQ * disp + 4 * ctx.L[l].sigmaNm && off < bestOff && brightestOf(l) >= P[q].strength) {
         best = l;
         bestOff = off;
+      }
+    }
+    if (best < 0) {
+      // The photo's own order-1 peaks as sources, by the rule scoreSolution counts them (ownImageSources).
+      const modelNm = model.kind === 'grating' ? 2 * modelSigmaNm(model, px[q]) : 0;
+      for (const k of ownImagesFor(P, sources, q, band, -Infinity, Infinity)) {
+        const src = sources[k];
+        const off = Math.abs(lamQ - 2 * src.readingNm);
+        if (off <= tolQ * disp + 2 * src.toleranceNm + modelNm && off < bestOff) {
+          best = src.line;
+          bestOff = off;
+        }
       }
     }
     if (best >= 0) out.push({ peak: q, line: best, x: px[q], lambda: ctx.L[best].wavelengthNm, manual: false });
@@ -394,3 +437,70 @@ export function generatingPairsLog10(ctx: Ctx, pairs: readonly Pair[], model: Di
 
 /** Least tolerance (px) of the two-point scales in generatingPairsLog10: growthSolution's least growth tolerance. */
 const GENERATING_TOLERANCE_PX = 1;
+
+interface ImageSource {
+  /** Index into ctx.P. */
+  peak: number;
+  line: number;
+  strength: number;
+  /** The solution's reading of the peak (nm). */
+  readingNm: number;
+  /** Its matching tolerance at that reading (nm): max(tolerance, 3σ) × |dλ/dx|. */
+  toleranceNm: number;
+  /** Its centroid's standard uncertainty at that reading (nm). */
+  sigmaNm: number;
+}
+
+/**
+ * The solution's matched order-1 peaks whose lines have no order-2 hypothesis of their own (rank below
+ * SECOND_ORDER_MIN_RANK): a grating sends some of every line's light into order 2, where the order-1 scale reads
+ * twice the light's wavelength (m λ = d (sin θi + sin θ)), whatever the list says of its intensity. Line lists rank
+ * lines on scales that differ by orders of magnitude between sources and spectral regions (the project's Ne I list
+ * has 470.440 nm at 150 beside 585.249 nm at 20000; the outside reference the test tubes are drawn from ranks the
+ * two within a factor of two), so a line the list ranks weak may be among the photo's brightest; its order-1 peak
+ * says how bright it is. Each such
+ * peak, read at twice the scale's reading, is an order-2 window for every other peak no brighter than it (matched or
+ * not, its width in that peak's chance: the window is fixed by the solution's scale and matches, as its order-1
+ * windows are), and the image of a blend sits at twice the blend's own reading, so it is read from the peak, not from
+ * the line it was matched to. Measured (test/core/calibration/renderedSweep.test.ts): the rendered sweep's photos
+ * without the zero order 6 → 8 of 16, with it unchanged (12 of 16, 18 of 20), none wrong and every wrong-lamp search
+ * of both sweeps declined; the synthetic order-2 sweep's Ar 36 → 37 of 40, the others unchanged.
+ */
+function ownImageSources(ctx: Ctx, solution: GrownSolution): ImageSource[] {
+  const { P } = ctx;
+  const { model, tolerancePx } = solution;
+  const out: ImageSource[] = [];
+  for (const q of solution.pairs) {
+    if (q.manual || q.peak < 0 || q.line < 0 || ctx.L[q.line].rank >= SECOND_ORDER_MIN_RANK) continue;
+    const disp = Math.abs(dispersionAtNmPerPx(model, q.x));
+    const p = P[q.peak];
+    out.push({
+      peak: q.peak,
+      line: q.line,
+      strength: p.strength,
+      readingNm: wavelengthAtNm(model, q.x),
+      toleranceNm: Math.max(tolerancePx, 3 * p.sigma) * disp,
+      sigmaNm: p.sigma * disp,
+    });
+  }
+  return out;
+}
+
+/** Indices into `sources` of the order-2 windows peak q has: other peaks at least as strong, of a colour q's admits, imaged inside [covLo, covHi]. */
+function ownImagesFor(
+  P: readonly PeakItem[],
+  sources: readonly ImageSource[],
+  q: number,
+  band: [number, number] | null,
+  covLo: number,
+  covHi: number,
+): number[] {
+  const own: number[] = [];
+  for (let k = 0; k < sources.length; k++) {
+    const src = sources[k];
+    if (src.peak === q || src.strength < P[q].strength || 2 * src.readingNm < covLo || 2 * src.readingNm > covHi) continue;
+    if (band && (src.readingNm < band[0] || src.readingNm > band[1])) continue;
+    own.push(k);
+  }
+  return own;
+}
