@@ -535,6 +535,7 @@ export function identifySpecies(peaks: readonly CalibratedPeak[], options: Ident
     return { ...p, line, matchSigma: table.z[i], confidence: bestR };
   });
   labelSecondOrder(identified, area, sigma, present.map((s) => ({ template: templates[s], table: tables[s] })), o.matchSigma, options.lines);
+  resolveClaimedBlends(identified);
 
   const fluxOf = new Map<string, number>();
   for (let i = 0; i < n; i++) {
@@ -662,6 +663,24 @@ function secondOrderLine(first: MatchedLine, feature: TemplateFeature, halfNm: n
   if (others.length) line.blendedWithNm = others.sort((a, b) => a - b);
   if (first.molecular) line.molecular = true;
   return line;
+}
+
+/**
+ * A line another peak is named after (same species, same order) is resolved there, so it is no part of a blend named
+ * at this one: e.g. in order 2 the images of Hg I 433.922 and 434.749 nm stand apart, though the first's width would
+ * allow the second.
+ */
+function resolveClaimedBlends(identified: IdentifiedPeak[]): void {
+  const key = (element: string, wavelengthNm: number, order: number | undefined) => `${element} ${order ?? 1} ${wavelengthNm.toFixed(4)}`;
+  const named = new Set(identified.filter((p) => p.line).map((p) => key(p.line!.element, p.line!.wavelengthNm, p.line!.order)));
+  identified.forEach((p, i) => {
+    const line = p.line;
+    if (!line?.blendedWithNm) return;
+    const kept = line.blendedWithNm.filter((w) => !named.has(key(line.element, w, line.order)));
+    if (kept.length === line.blendedWithNm.length) return;
+    const { blendedWithNm: _all, ...rest } = line;
+    identified[i] = { ...p, line: kept.length ? { ...rest, blendedWithNm: kept } : rest };
+  });
 }
 
 /** A species no peak comes near: no evidence either way (or, with no emission lines at all, nothing to score). */

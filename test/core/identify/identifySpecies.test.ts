@@ -158,14 +158,15 @@ describe('identifySpecies: what else is in it', () => {
   it('names the lines a first-order blend resolves into in order 2 (Hg I 433.922, 434.749, 435.833 nm)', () => {
     // Hg I lines from NIST ASD; in order 2 (mλ = d sin θ) they stand at 867.844, 869.498 and 871.666 nm, 1.7–2.2 nm
     // apart on the first-order scale, where the camera's 2.4 nm-wide first-order peak holds all three. Each image is
-    // 1.2 nm wide on the scale, 0.6 nm in first-order wavelength: resolved.
+    // 1.2 nm wide on the scale, 0.6 nm in first-order wavelength: resolved. The first is wider (2 nm: 1 nm in first
+    // order, enough to hold 434.749 too), but 434.749 has its own image beside it, so it is no blend of the first's.
     const peaks = [
       peakAt(404.66, 30, { fwhmNm: 2.4 }),
       peakAt(435.7, 100, { fwhmNm: 2.4 }),
       peakAt(546.07, 80, { fwhmNm: 2.4 }),
       peakAt(576.96, 12, { fwhmNm: 2.4 }),
       peakAt(579.07, 14, { fwhmNm: 2.4 }),
-      peakAt(867.9, 2, { wavelengthUncertaintyNm: 0.3 }),
+      peakAt(867.9, 2, { wavelengthUncertaintyNm: 0.3, fwhmNm: 2 }),
       peakAt(869.4, 3, { wavelengthUncertaintyNm: 0.3 }),
       peakAt(871.7, 8, { wavelengthUncertaintyNm: 0.3 }),
     ];
