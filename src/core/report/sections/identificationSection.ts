@@ -30,8 +30,14 @@ interface SpeciesRow {
 
 interface IdentifiedRow extends PeakRow {
   /** `order`: the diffraction order the line is seen in, when not the first (it then appears at order × λ). */
-  line: { element: string; spectrum?: string; wavelengthNm: number; order: number } | null;
+  line: { element: string; spectrum?: string; wavelengthNm: number; order: number; blendedWithNm: number[] } | null;
   confidence?: number;
+}
+
+/** A peak's notes in the peak table: its flags, and the lines its line is unresolved from (which pull its centre). */
+function identifiedNotes(p: IdentifiedRow, measure: string): string {
+  const blend = p.line?.blendedWithNm.length ? `unresolved from ${p.line.blendedWithNm.map((w) => w.toFixed(3)).join(', ')} nm` : '';
+  return [peakNotes(p, measure), blend].filter(Boolean).join('; ');
 }
 
 /**
@@ -61,7 +67,15 @@ export function identificationSection(json: unknown, options: SectionOptions): R
     const line = p.optObj('line');
     return {
       ...readPeak(new JsonView({ ...p.value, height: strength ? p.num(strength) : 1 }, p.path)),
-      line: line ? { element: line.str('element'), spectrum: line.optStr('spectrum'), wavelengthNm: line.num('wavelength_nm'), order: line.optNum('order') ?? 1 } : null,
+      line: line
+        ? {
+            element: line.str('element'),
+            spectrum: line.optStr('spectrum'),
+            wavelengthNm: line.num('wavelength_nm'),
+            order: line.optNum('order') ?? 1,
+            blendedWithNm: line.has('blended_with_nm') ? line.numbers('blended_with_nm') : [],
+          }
+        : null,
       confidence: p.optNum('confidence'),
     };
   });
@@ -194,7 +208,7 @@ export function identificationSection(json: unknown, options: SectionOptions): R
       // A line seen in order m appears at m·λ on the first-order scale.
       p.line && p.wavelengthNm !== undefined ? likeU(p.wavelengthNm - p.line.order * p.line.wavelengthNm, p.wavelengthUncertaintyNm) : undefined,
       p.confidence === undefined ? undefined : p.confidence.toFixed(2),
-      peakNotes(p, measure),
+      identifiedNotes(p, measure),
     ]),
   });
 

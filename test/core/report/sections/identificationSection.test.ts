@@ -84,6 +84,20 @@ describe('identificationSection(json, {document})', () => {
     expect(species.rows[2][5]).toBe('763.5, 811.5');
   });
 
+  it("notes the lines a peak's line is unresolved from (they pull its centre off the tabulated value)", () => {
+    // Ne I 640.225 with 638.299 nm unresolved beside it (NIST ASD, from memory), read at their blend's 639.44 nm.
+    const json = neonWithMercury();
+    const ne640 = json.peaks.find((p: Record<string, any>) => p.line?.wavelength_nm === 640.225);
+    ne640.wavelength_nm = 639.44;
+    ne640.line.blended_with_nm = [638.299];
+    expect(validate(json)).toBe(true);
+    const peaks = identificationSection(json, { document }).section.tables!.find((t) => /^Peaks/.test(t.caption ?? ''))!;
+    const row = peaks.rows.find((r) => r[2] === '640.225')!;
+    expect(row[5]).toBe('unresolved from 638.299 nm');
+    const clipped = peaks.rows.find((r) => r[2] === '585.249')!;
+    expect(clipped[5]).toMatch(/^clipped/);
+  });
+
   it('says when the scale came from the spectrum itself', () => {
     const json = { ...neonWithMercury(), calibration: { from: 'self', rms_nm: 0.3, lamp: 'Ne' } };
     expect(validate(json)).toBe(true);
