@@ -20,7 +20,7 @@
  */
 import { dispersionAtNmPerPx, positionAtPx, wavelengthAtNm, type DispersionModel } from '../model.js';
 import { log10BinomialTail } from '../significance.js';
-import { type Ctx, lineSigmaNm, lowerBound, median, nearest, type Pair, type PeakItem, sigmaOf } from './context.js';
+import { type Ctx, lineSigmaNm, lowerBound, median, nearest, type Pair, sigmaOf } from './context.js';
 import type { GrownSolution } from './growSolution.js';
 import { rmsPx } from './quickFit.js';
 import { modelSigmaNm } from '../uncertainty.js';
@@ -109,7 +109,8 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
   let secondOrder = 0;
   let pSum = 0;
   const brightestOf = firstOrderStrength(ctx, solution);
-  const sources = ownImageSources(ctx, solution);
+  // Order-2 sources from the photo's own peaks (see ownImageSources) imaged inside the covered range, brightest first.
+  const sources = ownImageSources(ctx, solution).filter((src) => 2 * src.readingNm >= covLo && 2 * src.readingNm <= covHi);
   for (const q of taking) {
     const pair = pairOf.get(q);
     const disp = Math.abs(dispersionAtNmPerPx(model, px[q]));
@@ -130,10 +131,10 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
     const s2Lo = lowerBound(strong.lw, Math.max(covLo / 2, band ? band[0] : -Infinity) - 1e-9);
     const s2Hi = lowerBound(strong.lw, Math.min(covHi / 2, band ? band[1] : Infinity) + 1e-9);
     const order2 = pair ? 0 : Math.max(0, s2Hi - s2Lo);
-    // Order-2 hypotheses from the photo's own order-1 peaks (see ownImageSources): images at twice the reading of a
-    // matched peak at least as strong, of a colour this peak's admits, inside the covered range.
-    const own = pair?.manual ? [] : ownImagesFor(P, sources, q, band, covLo, covHi);
-    if (lines === 0 && !pair && order2 === 0 && own.length === 0) continue;
+    // Order-2 hypotheses from the photo's own order-1 peaks (see ownImageSources): images at twice the reading of
+    // another matched peak at least as strong, of a colour this peak's admits.
+    const own = pair?.manual ? 0 : countOwnImages(sources, q, P[q].strength, band);
+    if (lines === 0 && !pair && order2 === 0 && own === 0) continue;
     const tolNm = tolQ * disp + 2 * (pair ? lineSigmaNm(ctx, pair) : typicalSigmaNm);
     inRange++;
     // An unmatched peak may instead land within tol of 2λ (the window widened by twice the line's reference
@@ -168,10 +169,11 @@ export function scoreSolution(ctx: Ctx, solution: GrownSolution, parameters: num
     // tolerances (the source's doubled) and twice the grating model's own uncertainty at the image (a physical scale
     // extrapolated some hundreds of px beyond its lines; a polynomial's extrapolation is given no such allowance).
     let ownHit = false;
-    if (own.length) {
+    if (own > 0) {
       const modelNm = model.kind === 'grating' ? 2 * modelSigmaNm(model, px[q]) : 0;
-      for (const k of own) {
-        const src = sources[k];
+      for (const src of sources) {
+        if (src.strength < P[q].strength) break;
+        if (!ownImageAdmits(src, q, band)) continue;
         const half = tolQ * disp + 2 * src.toleranceNm + modelNm;
         p2 += (2 * half) / covWidth;
         const sigma2 = windows ? Math.hypot(centroidNm, 2 * src.sigmaNm) : 0;
@@ -342,8 +344,9 @@ export function secondOrderPairs(ctx: Ctx, solution: GrownSolution): Pair[] {
     if (best < 0) {
       // The photo's own order-1 peaks as sources, by the rule scoreSolution counts them (ownImageSources).
       const modelNm = model.kind === 'grating' ? 2 * modelSigmaNm(model, px[q]) : 0;
-      for (const k of ownImagesFor(P, sources, q, band, -Infinity, Infinity)) {
-        const src = sources[k];
+      for (const src of sources) {
+        if (src.strength < P[q].strength) break;
+        if (!ownImageAdmits(src, q, band)) continue;
         const off = Math.abs(lamQ - 2 * src.readingNm);
         if (off <= tolQ * disp + 2 * src.toleranceNm + modelNm && off < bestOff) {
           best = src.line;
@@ -453,7 +456,7 @@ interface ImageSource {
 
 /**
  * The solution's matched order-1 peaks whose lines have no order-2 hypothesis of their own (rank below
- * SECOND_ORDER_MIN_RANK): a grating sends some of every line's light into order 2, where the order-1 scale reads
+ * SECOND_ORDER_MIN_RANK), brightest first: a grating sends some of every line's light into order 2, where the order-1 scale reads
  * twice the light's wavelength (m λ = d (sin θi + sin θ)), whatever the list says of its intensity. Line lists rank
  * lines on scales that differ by orders of magnitude between sources and spectral regions (the project's Ne I list
  * has 470.440 nm at 150 beside 585.249 nm at 20000; the outside reference the test tubes are drawn from ranks the
@@ -483,24 +486,20 @@ function ownImageSources(ctx: Ctx, solution: GrownSolution): ImageSource[] {
       sigmaNm: p.sigma * disp,
     });
   }
-  return out;
+  return out.sort((a, b) => b.strength - a.strength);
 }
 
-/** Indices into `sources` of the order-2 windows peak q has: other peaks at least as strong, of a colour q's admits, imaged inside [covLo, covHi]. */
-function ownImagesFor(
-  P: readonly PeakItem[],
-  sources: readonly ImageSource[],
-  q: number,
-  band: [number, number] | null,
-  covLo: number,
-  covHi: number,
-): number[] {
-  const own: number[] = [];
-  for (let k = 0; k < sources.length; k++) {
-    const src = sources[k];
-    if (src.peak === q || src.strength < P[q].strength || 2 * src.readingNm < covLo || 2 * src.readingNm > covHi) continue;
-    if (band && (src.readingNm < band[0] || src.readingNm > band[1])) continue;
-    own.push(k);
+/** Whether a source's order-2 image is a hypothesis for peak q: another peak, whose reading q's colour admits. */
+function ownImageAdmits(src: ImageSource, q: number, band: [number, number] | null): boolean {
+  return src.peak !== q && (!band || (src.readingNm >= band[0] && src.readingNm <= band[1]));
+}
+
+/** How many of the sources (brightest first) are order-2 hypotheses for peak q of the given strength and colour. */
+function countOwnImages(sources: readonly ImageSource[], q: number, strength: number, band: [number, number] | null): number {
+  let n = 0;
+  for (const src of sources) {
+    if (src.strength < strength) break;
+    if (ownImageAdmits(src, q, band)) n++;
   }
-  return own;
+  return n;
 }
