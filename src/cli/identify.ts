@@ -62,7 +62,7 @@ export function registerIdentify(program: Command): void {
     .option('--no-bands', 'leave the N2 molecular band heads out of the candidates')
     .option('--summary <file.csv>', 'write the batch summary as CSV: one row per input (file, status, species, key figures, error)')
     .option('--report <folder>', 'write the HTML report of all inputs into this folder (index.html, and summary.csv unless --summary says where)')
-    .option('--workers <n>', 'worker threads for several inputs (default: one per 12 inputs, at most one per core; 1 = one after another in this process)')
+    .option('--workers <n>', 'worker threads for several inputs (default: one per 12 inputs, at most one per core but one; 1 = one after another in this process)')
     .addHelpText('after', HELP_AFTER)
     .action(
       action(async (inputs: string[], opts: IdentifyCliOptions) => {

@@ -107,7 +107,7 @@ export function registerSpectrum(program: Command): void {
     .addOption(new Option('--transfer <curve>', 'pixel values are sRGB-encoded or linear (default: 8-bit sRGB, 16-bit linear)').choices(['srgb', 'linear']))
     .option('--summary <file.csv>', 'write the batch summary as CSV (one row per input: status, band, peaks, brightest peak, error)')
     .option('--report <folder>', 'write the HTML report of all inputs into this folder (index.html, and summary.csv unless --summary says where)')
-    .option('--workers <n>', 'worker threads for several inputs (default: one per 12 inputs, at most one per core; 1 = one after another in this process)')
+    .option('--workers <n>', 'worker threads for several inputs (default: one per 12 inputs, at most one per core but one; 1 = one after another in this process)')
     .addHelpText('after', HELP_AFTER)
     .action(
       action(async (files: string[], opts: SpectrumCliOptions) => {

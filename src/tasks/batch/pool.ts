@@ -41,14 +41,18 @@ export interface PoolOptions {
 
 /**
  * Photos per worker thread before another thread pays for itself: each worker loads the modules and warms up its own
- * JIT (~1 s of CPU), and sharp's decode already spreads over the cores from one thread. Measured with the demo
- * photos on 2 cores: 12 photos ran 0.93× as fast on 2 workers as on 1, 24 photos 1.1×.
+ * JIT (~1 s of CPU). Measured with the demo photos on 2 cores: 12 photos ran 0.93× as fast on 2 workers as on 1,
+ * 24 photos 0.95–1.1× (npm run bench), while using a third more CPU.
  */
 export const FILES_PER_WORKER = 12;
 
-/** One worker per FILES_PER_WORKER files, at most one per core; a small batch runs in this thread. */
+/**
+ * One worker per FILES_PER_WORKER files, leaving one core to sharp, whose decode already spreads over the cores from
+ * one thread (one worker measures 1.4 cores' worth on 2 cores); a small batch, or any batch on 2 cores, runs in this
+ * thread.
+ */
 export function defaultWorkerCount(files: number): number {
-  return Math.max(1, Math.min(Math.floor(files / FILES_PER_WORKER), os.availableParallelism()));
+  return Math.max(1, Math.min(Math.floor(files / FILES_PER_WORKER), os.availableParallelism() - 1));
 }
 
 /**
