@@ -165,9 +165,14 @@ function formatText(s: ReturnType<typeof combine>, series: ModeSeries, warnings:
     lines.push('');
     lines.push('  trace                          modes   spacing MHz   comb position MHz');
     for (const t of series.traces as ModeAnalysis[]) {
-      lines.push(`  ${t.source.padEnd(30).slice(0, 30)} ${String(t.modeCount).padStart(5)}   ${mhz(t.modeSpacingHz, 3).padStart(11)}   ${mhz(t.combPositionHz, 1).padStart(17)}`);
+      lines.push(`  ${tailFitted(t.source, 30)} ${String(t.modeCount).padStart(5)}   ${mhz(t.modeSpacingHz, 3).padStart(11)}   ${mhz(t.combPositionHz, 1).padStart(17)}`);
     }
   }
   for (const w of warnings) lines.push(`warning: ${w}`);
   return lines.join('\n') + '\n';
+}
+
+/** `text` in a column `width` characters wide: padded, or cut at the front ("…modes/warmup-1.csv") so the file name shows. */
+function tailFitted(text: string, width: number): string {
+  return text.length <= width ? text.padEnd(width) : `…${text.slice(text.length - width + 1)}`;
 }

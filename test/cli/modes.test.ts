@@ -58,6 +58,12 @@ describe('glowprint modes', () => {
     expect(r.stdout).toMatch(/Cavity length +600\.\d+ ± /);
   });
 
+  it("names each trace of a series in its table even when the paths are long (the file name's end is kept)", () => {
+    const r = runCli(['modes', ...demo.map((f) => path.join(ROOT, f)), '--fsr', '9.9931 GHz']);
+    expect(r.status).toBe(0);
+    for (let i = 0; i < demo.length; i++) expect(r.stdout).toMatch(new RegExp(`^  \\S*${demoTraceName(i).replace('.', '\\.')} +\\d+ `, 'm'));
+  });
+
   it('refuses bad input with one clear line and exit 1', () => {
     const dir = tmp();
     const one = path.join(dir, 'one.csv');
