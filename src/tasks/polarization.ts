@@ -133,7 +133,24 @@ export async function runPolarization(images: string[], opts: PolarizationOption
     series.images.length = 0; // the pixels are no longer needed
   }
   const source = opts.table ?? (images.length ? 'photo series' : 'series');
-  const fitOptions = { source, correctDrift: opts.correctDrift ?? MALUS_FIT_DEFAULTS.correctDrift };
+  let ts: TimeSeriesAnalysis | undefined;
+  let tsData: { series: TimeSeries; reference?: TimeSeries } | undefined;
+  if (opts.timeSeries !== undefined) {
+    const s = timeSeriesFromTable(parseNumericCsv(await readFile(opts.timeSeries, 'utf8'), { source: opts.timeSeries, minColumns: 2 }), opts.timeSeries);
+    const r = opts.reference
+      ? timeSeriesFromTable(parseNumericCsv(await readFile(opts.reference, 'utf8'), { source: opts.reference, minColumns: 2 }), opts.reference)
+      : undefined;
+    ts = analyseTimeSeries(s, { reference: r, simultaneous: opts.simultaneous });
+    tsData = { series: s, reference: r };
+    warnings.push(...ts.warnings);
+  }
+
+  // A burst that shows the polarization fluctuating tells the rotation fit that a drift is the source's own.
+  const fitOptions = {
+    source,
+    correctDrift: opts.correctDrift ?? MALUS_FIT_DEFAULTS.correctDrift,
+    sourceFluctuates: ts?.verdict === 'fluctuating',
+  };
 
   if (opts.calibrateAnalyser) {
     const cal = calibrateAnalyser(points!, {
@@ -201,17 +218,6 @@ export async function runPolarization(images: string[], opts: PolarizationOption
     warnings.push(...result.warnings);
   }
 
-  let ts: TimeSeriesAnalysis | undefined;
-  let tsData: { series: TimeSeries; reference?: TimeSeries } | undefined;
-  if (opts.timeSeries !== undefined) {
-    const s = timeSeriesFromTable(parseNumericCsv(await readFile(opts.timeSeries, 'utf8'), { source: opts.timeSeries, minColumns: 2 }), opts.timeSeries);
-    const r = opts.reference
-      ? timeSeriesFromTable(parseNumericCsv(await readFile(opts.reference, 'utf8'), { source: opts.reference, minColumns: 2 }), opts.reference)
-      : undefined;
-    ts = analyseTimeSeries(s, { reference: r, simultaneous: opts.simultaneous });
-    tsData = { series: s, reference: r };
-    warnings.push(...ts.warnings);
-  }
   const interpretation = ts ? interpretTogether(result ?? null, ts) : null;
 
   if (opts.svg) {

@@ -96,6 +96,14 @@ describe('glowprint polarization', () => {
     expect(out.time_series.analysed.relative_slow_fluctuation).toBeGreaterThan(0.1);
     expect(out.time_series.reference.relative_slow_fluctuation).toBeLessThan(0.01);
     expect(out.interpretation).toMatch(/^randomly polarized/);
+    // With the burst, the rotation's drift is worded as the laser's own fluctuation (re-measuring will not remove it);
+    // without it, as a change of the set-up to correct or re-measure.
+    const drift = (ws: string[]) => ws.filter((w) => /^the intensity changed by/.test(w));
+    expect(drift(out.warnings)).toHaveLength(1);
+    expect(drift(out.warnings)[0]).toMatch(/the source's polarization fluctuates \(the fixed-analyser burst shows it\).*re-measuring will not remove it$/);
+    const rotationOnly = json(['--table', demo('laser-b-rotation.csv')]);
+    expect(drift(rotationOnly.warnings)).toHaveLength(1);
+    expect(drift(rotationOnly.warnings)[0]).toMatch(/changed during the run; use the drift correction or re-measure$/);
     const only = json(['--time-series', demo('laser-b-burst.csv')]);
     expect(only.dolp).toBeNull();
     expect(only.time_series.verdict).toBe('fluctuating');

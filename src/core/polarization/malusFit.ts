@@ -31,6 +31,11 @@ export interface MalusFitOptions {
   driftSigmas?: number;
   /** Use the drift-corrected fit for the results (needs a revisited angle). @default false */
   correctDrift?: boolean;
+  /**
+   * The source's polarization is known to fluctuate (a fixed-analyser burst says so, as for a randomly polarized
+   * laser): a drift is then worded as the source's own, which re-measuring will not remove. @default false
+   */
+  sourceFluctuates?: boolean;
   /** A negative intensity is accepted when within this many of its own σ of zero (noise after a background). @default 3 */
   negativeSigmas?: number;
   /** Warn when the settings cover less of the 180° period than this. @default 90 */
@@ -43,6 +48,7 @@ export const MALUS_FIT_DEFAULTS = {
   fourThetaAlpha: 0.01,
   driftSigmas: 3,
   correctDrift: false,
+  sourceFluctuates: false,
   negativeSigmas: 3,
   minSpanDeg: 90,
 } as const;
@@ -235,9 +241,11 @@ export function fitMalus(points: readonly MalusPoint[], options: MalusFitOptions
         warnings.push(
           `the intensity changed by ${signedPercent(d)} ± ${round(100 * sd, 2)} % over the run (a linear trend, from the revisited angle${
             revisited.length > 1 ? 's' : ''
-          } ${revisited.map((a) => `${round(a, 1)}°`).join(', ')}): the source's power or polarization, or the exposure, changed during the run${
-            o.correctDrift ? '; the results are drift-corrected' : '; use the drift correction or re-measure'
-          }`,
+          } ${revisited.map((a) => `${round(a, 1)}°`).join(', ')}): ${
+            o.sourceFluctuates
+              ? "the source's polarization fluctuates (the fixed-analyser burst shows it), so the rotation's DoLP and azimuth are averages over that wander; re-measuring will not remove it"
+              : "the source's power or polarization, or the exposure, changed during the run"
+          }${o.correctDrift ? '; the results are drift-corrected' : o.sourceFluctuates ? '' : '; use the drift correction or re-measure'}`,
         );
       }
     }
