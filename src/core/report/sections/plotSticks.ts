@@ -57,7 +57,8 @@ const MARKER_RADIUS_PX = 3;
 /**
  * A stick plot on the project's chart frame: each stick from zero to its height, a marker on top (hollow for
  * `hollow`), dashed for lower bounds, and upright labels on the highest sticks, spread sideways where they crowd and
- * tied to their sticks by leaders (plot/peakLabels.ts), the scale's top raised to give them room. For peak tables whose samples are not at hand (a result's JSON carries the peaks, not the spectrum).
+ * tied to their sticks by leaders (plot/peakLabels.ts), the scale's top raised to give them room. For peak tables
+ * whose samples are not at hand (a result's JSON carries the peaks, not the spectrum).
  */
 export function plotSticks(options: PlotSticksOptions): string {
   const sticks = options.sticks.filter((s) => Number.isFinite(s.x) && Number.isFinite(s.height));
