@@ -18,10 +18,14 @@ const arr = (v: unknown): Json[] => (Array.isArray(v) ? (v as Json[]) : []);
 const rec = (v: unknown): Json | null => (v !== null && typeof v === 'object' && !Array.isArray(v) ? (v as Json) : null);
 const num = (v: unknown): number | null => (typeof v === 'number' && Number.isFinite(v) ? v : null);
 
+/**
+ * The present species, the one that gives most of the line flux first (the gas that fills the tube), then by score:
+ * the order the report's verdict names them in ("Mercury, with argon").
+ */
 function presentSpecies(json: Json): Json[] {
   return arr(json.species)
     .filter((s) => s.present === true)
-    .sort((a, b) => (num(b.score) ?? 0) - (num(a.score) ?? 0));
+    .sort((a, b) => (num(b.fluxFraction) ?? 0) - (num(a.fluxFraction) ?? 0) || (num(b.score) ?? 0) - (num(a.score) ?? 0));
 }
 
 const IDENTIFY_COLUMNS: SummaryColumn[] = [
