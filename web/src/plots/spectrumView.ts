@@ -590,7 +590,6 @@ function areaOf(xs: Float64Array, ys: Float64Array, x: d3.ScaleLinear<number, nu
   return `M${a},${y0}` + top.replace(/^M/, 'L') + `L${b},${y0}Z`;
 }
 
-/** Labels of the highest peaks first; a label is left out when it would sit within 11 px of one already placed (the text is 10 px high). */
 /** Room one upright label takes across the plot (px at font size 10). */
 const LABEL_PITCH_PX = 11;
 /** Depth of the band under the plot's top in which leaders run aslant from a spread label to above its peak (px). */
