@@ -12,6 +12,7 @@ import { dispersionPriorNmPerPx } from '../core/identify/dispersionPrior.js';
 import { identifySpectrum, type IdentifyInput, type SpectrumIdentification } from '../core/identify/identifySpectrum.js';
 import { plotIdentificationSvg } from '../core/identify/plotIdentification.js';
 import type { ListedLine } from '../core/lines/index.js';
+import { formatWithUncertainty } from '../core/report/html.js';
 import type { Spectrum } from '../core/types.js';
 import { loadLaserDefinitions, loadLineFile, loadLineList } from '../io/lineList.js';
 import { createSvgDocument } from '../io/svgDocument.js';
@@ -197,7 +198,8 @@ export function formatIdentification(r: IdentifyFileResult): string {
   const strong = id.unexplained.slice(0, 10);
   if (strong.length) {
     out.push(`  unexplained (${Math.round(100 * id.unexplainedFluxFraction)} % of the flux), brightest first:`);
-    out.push('    ' + strong.map((p) => `${p.wavelengthNm.toFixed(1)} ± ${p.wavelengthUncertaintyNm.toFixed(1)} nm`).join(', '));
+    // Each to the decimals its uncertainty earns (two significant digits of it): 515.03 ± 0.04 nm, not 515.0 ± 0.0.
+    out.push('    ' + strong.map((p) => formatWithUncertainty(p.wavelengthNm, p.wavelengthUncertaintyNm, 'nm')).join(', '));
   }
   return out.join('\n') + '\n';
 }

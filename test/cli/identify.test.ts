@@ -115,6 +115,22 @@ describe('glowprint identify', () => {
     expect(json.warnings.some((w) => /from the spectrum itself/.test(w))).toBe(true);
   });
 
+  it('lists the unexplained peaks each to the decimals its uncertainty earns (never "± 0.0")', () => {
+    // Tube B calibrating itself leaves a few weak peaks unexplained; the sharpest is known to a few hundredths of a nm.
+    const r = runCli(['identify', demo('tube-b.jpg')]);
+    expect(r.status, r.stderr).toBe(0);
+    const lines = r.stdout.split('\n');
+    const list = lines[lines.findIndex((l) => /unexplained .*brightest first:/.test(l)) + 1];
+    const entries = list.trim().split(', ');
+    expect(entries.length).toBeGreaterThanOrEqual(1);
+    for (const e of entries) {
+      const m = /^(\d+\.(\d+)) ± (\d+\.(\d+)) nm$/.exec(e)!;
+      expect(m, e).not.toBeNull();
+      expect(Number(m[3]), e).toBeGreaterThan(0); // the uncertainty shows, with the value to the same decimals
+      expect(m[2].length).toBe(m[4].length);
+    }
+  });
+
   it('reads a wavelength CSV as calibrated by its writer (calibration.from "file")', () => {
     const r = runCli(['identify', at('neon-wavelength.csv'), '--json']);
     expect(r.status, r.stderr).toBe(0);
