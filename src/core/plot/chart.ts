@@ -43,7 +43,7 @@ export const PALETTE = {
 } as const;
 
 /** The margins around the plotting area (px): room for the title, the axes and their labels. */
-export function chartMarginsPx(hasTitle: boolean): { top: number; right: number; bottom: number; left: number } {
+function chartMarginsPx(hasTitle: boolean): { top: number; right: number; bottom: number; left: number } {
   return { top: hasTitle ? 34 : 14, right: 18, bottom: 44, left: 64 };
 }
 

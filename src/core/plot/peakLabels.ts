@@ -20,7 +20,7 @@ export const UPRIGHT_LABEL_PITCH_EM = 1.2;
 /** Clearance between a peak's marker top and its label or leader (px). */
 const MARKER_GAP_PX = 3;
 /** Height of a peak marker above the trace (plotSpectrum's triangle: 3 px clear of the trace, 7 px tall). */
-export const MARKER_HEIGHT_PX = 10;
+const MARKER_HEIGHT_PX = 10;
 /** How far a leader rises aslant from the crowd's common kink to its label (px). */
 const SLANT_RISE_PX = 9;
 /** Clearance between the highest trace or marker under a crowd and its leaders' kink (px). */
@@ -158,12 +158,12 @@ export function placePeakLabels(
 }
 
 /** How far above the highest trace under it a crowd's labels reach, beyond their own length (px). */
-export function crowdRisePx(members: number): number {
+function crowdRisePx(members: number): number {
   return MARKER_HEIGHT_PX + (members > 1 ? CROWD_GAP_PX + SLANT_RISE_PX : MARKER_GAP_PX);
 }
 
 /** A crowd of labels may take at most this share of the plot's height; beyond, the scale is not raised for it. */
-export const MAX_LABEL_SHARE = 0.85;
+const MAX_LABEL_SHARE = 0.85;
 
 /**
  * The top of a linear vertical scale [bottom, top] raised, where needed, so that every crowd's labels fit above the
